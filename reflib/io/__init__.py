@@ -1,0 +1,124 @@
+"""Reading and writing spectra and peak lists.
+
+:func:`read_spectrum` and :func:`read_all` decide the format from the content, never from the
+file name: JCAMP-DX (labelled records starting ``##``), a typed peak list as chemists write it
+(``3350 (br), 1715 (s) cm-1``), or delimited columns (CSV, TSV, semicolon, whitespace).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+from pathlib import Path
+
+from reflib.errors import ReadError
+from reflib.spectrum import PeakList, Spectrum
+
+#: Files larger than this are refused before they are read (bytes).
+MAX_FILE_BYTES = 64 * 1024 * 1024
+
+_JCAMP_LABEL = re.compile(r"^\s*##[^=\n]*=", re.MULTILINE)
+
+Readable = Spectrum | PeakList
+
+
+def _read_text(path: str | Path) -> tuple[str, str]:
+    """Return (text, sha256 hex) of a file, with clear errors for the usual mistakes."""
+    p = Path(path)
+    if not p.exists():
+        raise ReadError("no such file", path=p)
+    if p.is_dir():
+        raise ReadError("is a folder, not a file", path=p)
+    size = p.stat().st_size
+    if size > MAX_FILE_BYTES:
+        raise ReadError(
+            f"file is {size / 1e6:.0f} MB; reflib reads spectra up to {MAX_FILE_BYTES // 2**20} MB",
+            path=p,
+        )
+    try:
+        data = p.read_bytes()
+    except OSError as exc:
+        raise ReadError(f"cannot read: {exc.strerror or exc}", path=p) from None
+    if not data.strip():
+        raise ReadError("file is empty", path=p)
+    if b"\x00" in data[:4096]:
+        raise ReadError("binary file; reflib reads JCAMP-DX, delimited text and peak lists", path=p)
+    digest = hashlib.sha256(data).hexdigest()
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        text = data.decode("latin-1")
+    return text, digest
+
+
+def sniff_format(text: str) -> str:
+    """Name the format of ``text``: ``'jcamp'``, ``'peaktext'`` or ``'delimited'``."""
+    from reflib.io import peaktext
+
+    if _JCAMP_LABEL.search(text[:20000]):
+        return "jcamp"
+    if peaktext.looks_like_peak_text(text):
+        return "peaktext"
+    return "delimited"
+
+
+def parse_all(text: str, *, source: str | None = None, y_kind: str | None = None) -> list[Readable]:
+    """Parse text of any supported format into every infrared block it holds."""
+    fmt = sniff_format(text)
+    if fmt == "jcamp":
+        from reflib.io import jcamp
+
+        return jcamp.parse_jcamp(text, source=source)
+    if fmt == "peaktext":
+        from reflib.io import peaktext
+
+        return [peaktext.parse_peak_text(text, source=source)]
+    from reflib.io import delimited
+
+    return [delimited.parse_delimited(text, source=source, y_kind=y_kind)]
+
+
+def _stamp(objs: list[Readable], path: Path, digest: str) -> list[Readable]:
+    for obj in objs:
+        obj.meta.source_file = path.name
+        obj.meta.sha256 = digest
+    return objs
+
+
+def read_all(path: str | Path, *, y_kind: str | None = None) -> list[Readable]:
+    """Every infrared spectrum or peak list in a file (several for a JCAMP-DX LINK file).
+
+    ``y_kind`` ('absorbance' or 'transmittance') overrides the detection for delimited columns.
+    Raises :class:`~reflib.errors.ReadError` naming the file (and line, where known).
+    """
+    p = Path(path)
+    text, digest = _read_text(p)
+    try:
+        objs = parse_all(text, source=str(p), y_kind=y_kind)
+    except ReadError as exc:
+        if exc.path is None:
+            exc.path = str(p)
+        raise
+    return _stamp(objs, p, digest)
+
+
+def read_spectrum(path: str | Path, *, y_kind: str | None = None) -> Readable:
+    """The one infrared spectrum or peak list in a file.
+
+    A file holding several infrared blocks is refused (use :func:`read_all`): reflib does not
+    guess which one was meant.
+
+    >>> # read_spectrum("crude-42.jdx").x[:3]   # doctest: +SKIP
+    """
+    objs = read_all(path, y_kind=y_kind)
+    if len(objs) != 1:
+        titles = "; ".join(o.meta.title or "(untitled)" for o in objs)
+        raise ReadError(
+            f"holds {len(objs)} infrared blocks ({titles}); read them with read_all() "
+            "or split the file",
+            path=path,
+        )
+    return objs[0]
+
+
+__all__ = ["read_spectrum", "read_all", "parse_all", "sniff_format", "MAX_FILE_BYTES"]
