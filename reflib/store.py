@@ -1,0 +1,502 @@
+"""The library file: SQLite schema (via sqlite-utils), transactions, revision counter, provenance.
+
+One library is one SQLite file any SQLite tool can open. Tables:
+
+``compounds``  id, name, aliases, smiles, canonical_smiles, formula, inchikey, role, tags,
+               notebook, notes, added_by, added_at
+``spectra``    id, compound_id, prep, kind ('spectrum' or 'peaks'), resolution, source_file,
+               sha256, lo_cm1, hi_cm1, y_kind, x, y (zlib-compressed float64), meta (JSON),
+               acquired_at, operator, notes, added_at
+``peaks``      spectrum_id, position (cm-1), intensity (0..1), width (FWHM cm-1), strength,
+               broad, shoulder
+``vectors``    spectrum_id, encoding (key), data (float32 blob)
+``meta``       key, value: schema_version, encoding (JSON), revision
+
+Every write goes through :meth:`Store.write`, one transaction that bumps ``revision``; a reader
+that sees the same revision sees the same library.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+import json
+import sqlite3
+import zlib
+from collections.abc import Iterator
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import sqlite_utils
+
+from reflib.encode import DEFAULT_ENCODING, Encoding
+from reflib.errors import LibraryError, NotFoundError, ValidationError
+from reflib.spectrum import Metadata, PeakList, Spectrum
+
+SCHEMA_VERSION = 1
+ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
+ROLE_ALIASES = {
+    "sm": "starting material",
+    "start": "starting material",
+    "starting-material": "starting material",
+    "starting_material": "starting material",
+    "int": "intermediate",
+    "prod": "product",
+}
+BUSY_TIMEOUT_S = 30.0
+
+
+def normalise_role(role: str | None) -> str:
+    """The canonical role word, or a ValidationError listing the valid ones."""
+    if role is None or not str(role).strip():
+        return "other"
+    r = str(role).strip().lower()
+    r = ROLE_ALIASES.get(r, r)
+    if r not in ROLES:
+        raise ValidationError(f"unknown role {role!r}; use one of: {', '.join(ROLES)}")
+    return r
+
+
+def now() -> str:
+    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+
+
+def pack_array(a: np.ndarray) -> bytes:
+    return zlib.compress(np.ascontiguousarray(a, dtype="<f8").tobytes(), 6)
+
+
+def unpack_array(b: bytes) -> np.ndarray:
+    return np.frombuffer(zlib.decompress(b), dtype="<f8").copy()
+
+
+def pack_vector(v: np.ndarray) -> bytes:
+    return np.ascontiguousarray(v, dtype="<f4").tobytes()
+
+
+@dataclass
+class VectorSet:
+    """All stored vectors of one encoding, with what the search needs about each spectrum."""
+
+    spectrum_ids: np.ndarray  # int64
+    compound_ids: np.ndarray  # int64
+    preps: list[tuple[str, ...]]
+    ranges: list[tuple[float | None, float | None]]
+    matrix: np.ndarray  # (n, bins) float32
+
+
+class Store:
+    """Low-level access to one library file. Use :class:`reflib.library.Library` instead."""
+
+    def __init__(self, conn: sqlite3.Connection, path: str):
+        self.conn = conn
+        self.path = path
+        self.db = sqlite_utils.Database(conn)
+
+    # --- opening -------------------------------------------------------------------------------
+
+    @staticmethod
+    def _connect(path: str) -> sqlite3.Connection:
+        conn = sqlite3.connect(path, timeout=BUSY_TIMEOUT_S, isolation_level=None)
+        conn.execute("PRAGMA foreign_keys = ON")
+        conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
+        if path != ":memory:":
+            conn.execute("PRAGMA journal_mode = WAL")
+            conn.execute("PRAGMA synchronous = NORMAL")
+        return conn
+
+    @classmethod
+    def create(cls, path: str | Path, encoding: Encoding = DEFAULT_ENCODING) -> Store:
+        """Create a new, empty library file. Refuses to overwrite an existing one."""
+        p = str(path)
+        if p != ":memory:" and Path(p).exists():
+            raise LibraryError(f"{p} already exists; open it instead of creating it")
+        if p != ":memory:" and not Path(p).parent.exists():
+            raise LibraryError(f"folder {Path(p).parent} does not exist")
+        try:
+            conn = cls._connect(p)
+        except sqlite3.Error as exc:
+            raise LibraryError(f"cannot create {p}: {exc}") from None
+        store = cls(conn, p)
+        store._create_schema(encoding)
+        return store
+
+    @classmethod
+    def open(cls, path: str | Path) -> Store:
+        """Open an existing library, checking that this reflib can read its schema."""
+        p = str(path)
+        if p == ":memory:":
+            raise LibraryError("an in-memory library cannot be reopened; create it instead")
+        if not Path(p).exists():
+            raise LibraryError(
+                f"no library at {p}; create one with 'reflib init {p}' "
+                "or point to yours with --library or REFLIB_LIBRARY"
+            )
+        try:
+            conn = cls._connect(p)
+            tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
+        except sqlite3.DatabaseError as exc:
+            raise LibraryError(f"{p} is not a reflib library (SQLite says: {exc})") from None
+        if "meta" not in tables:
+            conn.close()
+            raise LibraryError(f"{p} is an SQLite file but not a reflib library (no meta table)")
+        store = cls(conn, p)
+        version = int(store.get_meta("schema_version", "0"))
+        if version > SCHEMA_VERSION:
+            conn.close()
+            raise LibraryError(
+                f"{p} was written by a newer reflib (schema {version}); this reflib reads "
+                f"schema {SCHEMA_VERSION}: upgrade reflib to open it"
+            )
+        return store
+
+    def close(self) -> None:
+        self.conn.close()
+
+    def _create_schema(self, encoding: Encoding) -> None:
+        with self.write(bump=False):
+            db = self.db
+            db["meta"].create({"key": str, "value": str}, pk="key")
+            db["compounds"].create(
+                {
+                    "id": int,
+                    "name": str,
+                    "aliases": str,
+                    "smiles": str,
+                    "canonical_smiles": str,
+                    "formula": str,
+                    "inchikey": str,
+                    "role": str,
+                    "tags": str,
+                    "notebook": str,
+                    "notes": str,
+                    "added_by": str,
+                    "added_at": str,
+                },
+                pk="id",
+                not_null={"name", "role", "added_at"},
+            )
+            db.execute("CREATE UNIQUE INDEX idx_compounds_name ON compounds(name COLLATE NOCASE)")
+            db["compounds"].create_index(["inchikey"])
+            db["spectra"].create(
+                {
+                    "id": int,
+                    "compound_id": int,
+                    "prep": str,
+                    "kind": str,
+                    "resolution": float,
+                    "source_file": str,
+                    "sha256": str,
+                    "lo_cm1": float,
+                    "hi_cm1": float,
+                    "y_kind": str,
+                    "x": bytes,
+                    "y": bytes,
+                    "meta": str,
+                    "acquired_at": str,
+                    "operator": str,
+                    "notes": str,
+                    "added_at": str,
+                },
+                pk="id",
+                foreign_keys=[("compound_id", "compounds", "id")],
+                not_null={"compound_id", "kind", "added_at"},
+            )
+            db["spectra"].create_index(["compound_id"])
+            db["spectra"].create_index(["sha256"])
+            db["peaks"].create(
+                {
+                    "id": int,
+                    "spectrum_id": int,
+                    "position": float,
+                    "intensity": float,
+                    "width": float,
+                    "strength": str,
+                    "broad": int,
+                    "shoulder": int,
+                },
+                pk="id",
+                foreign_keys=[("spectrum_id", "spectra", "id")],
+                not_null={"spectrum_id", "position", "intensity"},
+            )
+            db["peaks"].create_index(["spectrum_id"])
+            db["vectors"].create(
+                {"spectrum_id": int, "encoding": str, "data": bytes},
+                pk="spectrum_id",
+                foreign_keys=[("spectrum_id", "spectra", "id")],
+            )
+            for key, value in {
+                "schema_version": str(SCHEMA_VERSION),
+                "encoding": json.dumps(encoding.to_dict(), sort_keys=True),
+                "revision": "0",
+                "created_at": now(),
+            }.items():
+                db["meta"].insert({"key": key, "value": value})
+
+    # --- transactions and meta -----------------------------------------------------------------
+
+    @contextlib.contextmanager
+    def write(self, *, bump: bool = True) -> Iterator[None]:
+        """One write transaction (BEGIN IMMEDIATE ... COMMIT), bumping the revision counter.
+
+        On any exception the transaction is rolled back: nothing half-written stays.
+        """
+        if self.conn.in_transaction:
+            yield
+            return
+        self.conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield
+            if bump:
+                self.conn.execute(
+                    "UPDATE meta SET value = CAST(value AS INTEGER) + 1 WHERE key = 'revision'"
+                )
+            self.conn.execute("COMMIT")
+        except BaseException:
+            self.conn.execute("ROLLBACK")
+            raise
+
+    def get_meta(self, key: str, default: str | None = None) -> str | None:
+        row = self.conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
+        return row[0] if row else default
+
+    def set_meta(self, key: str, value: str) -> None:
+        self.conn.execute(
+            "INSERT INTO meta(key, value) VALUES(?, ?) "
+            "ON CONFLICT(key) DO UPDATE SET value = excluded.value",
+            (key, value),
+        )
+
+    @property
+    def revision(self) -> int:
+        return int(self.get_meta("revision", "0") or 0)
+
+    @property
+    def encoding(self) -> Encoding:
+        return Encoding.from_dict(json.loads(self.get_meta("encoding") or "{}"))
+
+    # --- compounds -----------------------------------------------------------------------------
+
+    def find_compound(self, ref: str | int) -> dict[str, Any]:
+        """A compound by id (int or digits) or by name or alias (case-insensitive)."""
+        row = None
+        if isinstance(ref, int) or (isinstance(ref, str) and ref.strip().isdigit()):
+            row = self.conn.execute("SELECT * FROM compounds WHERE id = ?", (int(ref),)).fetchone()
+        if row is None and isinstance(ref, str):
+            row = self.conn.execute(
+                "SELECT * FROM compounds WHERE name = ? COLLATE NOCASE", (ref.strip(),)
+            ).fetchone()
+            if row is None:
+                for cand in self.conn.execute(
+                    "SELECT * FROM compounds WHERE aliases IS NOT NULL AND aliases != '[]'"
+                ):
+                    aliases = json.loads(cand[2] or "[]")
+                    if any(a.lower() == ref.strip().lower() for a in aliases):
+                        row = cand
+                        break
+        if row is None:
+            raise NotFoundError(f"no compound {ref!r} in the library; 'reflib list' shows them")
+        cols = [d[0] for d in self.conn.execute("SELECT * FROM compounds LIMIT 0").description]
+        return dict(zip(cols, row))
+
+    def compound_by_name(self, name: str) -> dict[str, Any] | None:
+        try:
+            return self.find_compound(name)
+        except NotFoundError:
+            return None
+
+    def insert_compound(self, record: dict[str, Any]) -> int:
+        rec = dict(record)
+        rec.setdefault("added_at", now())
+        for key in ("aliases", "tags"):
+            rec[key] = json.dumps(list(rec.get(key) or []), ensure_ascii=False)
+        return int(self.db["compounds"].insert(rec).last_pk)
+
+    def list_compounds(self, *, role: str | None = None, match: str | None = None) -> list[dict]:
+        sql = (
+            "SELECT c.*, COUNT(s.id) AS n_spectra, GROUP_CONCAT(DISTINCT s.prep) AS preps "
+            "FROM compounds c LEFT JOIN spectra s ON s.compound_id = c.id"
+        )
+        where, args = [], []
+        if role:
+            where.append("c.role = ?")
+            args.append(normalise_role(role))
+        if match:
+            where.append("(c.name LIKE ? ESCAPE '\\' OR c.aliases LIKE ? ESCAPE '\\')")
+            pat = "%" + match.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
+            args += [pat, pat]
+        if where:
+            sql += " WHERE " + " AND ".join(where)
+        sql += " GROUP BY c.id ORDER BY c.name COLLATE NOCASE"
+        cur = self.conn.execute(sql, args)
+        cols = [d[0] for d in cur.description]
+        return [dict(zip(cols, r)) for r in cur.fetchall()]
+
+    def remove_compound(self, compound_id: int) -> None:
+        with self.write():
+            ids = [
+                r[0]
+                for r in self.conn.execute(
+                    "SELECT id FROM spectra WHERE compound_id = ?", (compound_id,)
+                )
+            ]
+            for sid in ids:
+                self.conn.execute("DELETE FROM vectors WHERE spectrum_id = ?", (sid,))
+                self.conn.execute("DELETE FROM peaks WHERE spectrum_id = ?", (sid,))
+            self.conn.execute("DELETE FROM spectra WHERE compound_id = ?", (compound_id,))
+            self.conn.execute("DELETE FROM compounds WHERE id = ?", (compound_id,))
+
+    # --- spectra -------------------------------------------------------------------------------
+
+    def spectrum_by_sha(self, sha256: str) -> dict[str, Any] | None:
+        row = self.conn.execute(
+            "SELECT s.id, s.compound_id, c.name FROM spectra s JOIN compounds c "
+            "ON c.id = s.compound_id WHERE s.sha256 = ?",
+            (sha256,),
+        ).fetchone()
+        return None if row is None else {"id": row[0], "compound_id": row[1], "name": row[2]}
+
+    def insert_spectrum(
+        self,
+        compound_id: int,
+        data: Spectrum | PeakList,
+        peaks: PeakList,
+        vector: np.ndarray,
+        encoding_key: str,
+        *,
+        prep: list[str],
+        operator: str | None = None,
+        notes: str | None = None,
+        acquired_at: str | None = None,
+    ) -> int:
+        """Insert one spectrum with its peaks and vector (call inside :meth:`write`)."""
+        meta = data.meta
+        rec: dict[str, Any] = {
+            "compound_id": compound_id,
+            "prep": ",".join(prep),
+            "kind": "spectrum" if isinstance(data, Spectrum) else "peaks",
+            "resolution": meta.resolution,
+            "source_file": meta.source_file,
+            "sha256": meta.sha256,
+            "meta": json.dumps(meta.to_dict(), ensure_ascii=False, default=str),
+            "acquired_at": acquired_at,
+            "operator": operator,
+            "notes": notes,
+            "added_at": now(),
+        }
+        if isinstance(data, Spectrum):
+            rec.update(
+                lo_cm1=float(data.x[0]),
+                hi_cm1=float(data.x[-1]),
+                y_kind=data.y_kind,
+                x=pack_array(data.x),
+                y=pack_array(data.y),
+            )
+        sid = int(self.db["spectra"].insert(rec).last_pk)
+        self.conn.executemany(
+            "INSERT INTO peaks(spectrum_id, position, intensity, width, strength, broad, shoulder)"
+            " VALUES (?, ?, ?, ?, ?, ?, ?)",
+            [
+                (
+                    sid,
+                    p.position,
+                    p.intensity,
+                    None if np.isnan(p.width) else p.width,
+                    p.strength,
+                    int(p.broad),
+                    int(p.shoulder),
+                )
+                for p in peaks
+            ],
+        )
+        self.conn.execute(
+            "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)",
+            (sid, encoding_key, pack_vector(vector)),
+        )
+        return sid
+
+    def spectrum_record(self, spectrum_id: int) -> dict[str, Any]:
+        cur = self.conn.execute("SELECT * FROM spectra WHERE id = ?", (int(spectrum_id),))
+        row = cur.fetchone()
+        if row is None:
+            raise NotFoundError(f"no spectrum {spectrum_id} in the library")
+        return dict(zip([d[0] for d in cur.description], row))
+
+    def spectra_of(self, compound_id: int) -> list[dict[str, Any]]:
+        cur = self.conn.execute(
+            "SELECT id, prep, kind, source_file, sha256, lo_cm1, hi_cm1, resolution, operator, "
+            "notes, added_at FROM spectra WHERE compound_id = ? ORDER BY id",
+            (compound_id,),
+        )
+        cols = [d[0] for d in cur.description]
+        return [dict(zip(cols, r)) for r in cur.fetchall()]
+
+    def peaks_of(self, spectrum_id: int) -> PeakList:
+        rows = self.conn.execute(
+            "SELECT position, intensity, width, strength, broad, shoulder FROM peaks "
+            "WHERE spectrum_id = ? ORDER BY position",
+            (int(spectrum_id),),
+        ).fetchall()
+        rec = self.spectrum_record(spectrum_id)
+        meta = Metadata(**{**_meta_from_json(rec["meta"]), "prep": _split_prep(rec["prep"])})
+        if not rows:
+            return PeakList(np.zeros(0), np.zeros(0), meta=meta)
+        pos, inten, width, strength, broad, shoulder = zip(*rows)
+        return PeakList(
+            np.array(pos, float),
+            np.array(inten, float),
+            np.array([np.nan if w is None else w for w in width], float),
+            list(strength),
+            np.array(broad, bool),
+            np.array(shoulder, bool),
+            meta=meta,
+        )
+
+    def full_spectrum(self, spectrum_id: int) -> Spectrum | None:
+        rec = self.spectrum_record(spectrum_id)
+        if rec["kind"] != "spectrum" or rec["x"] is None:
+            return None
+        meta = Metadata(**{**_meta_from_json(rec["meta"]), "prep": _split_prep(rec["prep"])})
+        return Spectrum(unpack_array(rec["x"]), unpack_array(rec["y"]), rec["y_kind"], meta)
+
+    def load_vectors(self, encoding_key: str) -> VectorSet:
+        """Every vector of the given encoding, in spectrum-id order."""
+        rows = self.conn.execute(
+            "SELECT s.id, s.compound_id, s.prep, s.lo_cm1, s.hi_cm1, v.data, v.encoding "
+            "FROM spectra s JOIN vectors v ON v.spectrum_id = s.id ORDER BY s.id"
+        ).fetchall()
+        stale = [r[0] for r in rows if r[6] != encoding_key]
+        if stale:
+            raise LibraryError(
+                f"{len(stale)} spectra were encoded with another encoding; run 'reflib reindex'"
+            )
+        n = len(rows)
+        enc = self.encoding
+        matrix = np.empty((n, enc.size), dtype=np.float32)
+        for i, r in enumerate(rows):
+            matrix[i] = np.frombuffer(r[5], dtype="<f4")
+        return VectorSet(
+            spectrum_ids=np.array([r[0] for r in rows], dtype=np.int64),
+            compound_ids=np.array([r[1] for r in rows], dtype=np.int64),
+            preps=[tuple(_split_prep(r[2])) for r in rows],
+            ranges=[(r[3], r[4]) for r in rows],
+            matrix=matrix,
+        )
+
+    def counts(self) -> dict[str, int]:
+        return {
+            t: int(self.conn.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0])
+            for t in ("compounds", "spectra", "peaks", "vectors")
+        }
+
+
+def _split_prep(text: str | None) -> list[str]:
+    return [t for t in (text or "").split(",") if t]
+
+
+def _meta_from_json(text: str | None) -> dict[str, Any]:
+    d = json.loads(text or "{}")
+    fields = set(Metadata.__dataclass_fields__)
+    out = {k: v for k, v in d.items() if k in fields and k != "prep"}
+    return out
