@@ -44,6 +44,11 @@ MAX_WAVENUMBER = 15000.0
 #: A transmittance column whose largest value exceeds this is read as percent (0..100).
 PERCENT_THRESHOLD = 1.5
 
+#: A file of fewer rows than this whose x steps differ by more than PEAK_TABLE_SPACING times is
+#: a table of picked peaks, not a spectrum (spectrometers sample evenly). Common practice,
+#: no source.
+PEAK_TABLE_MAX_ROWS, PEAK_TABLE_SPACING = 100, 20.0
+
 #: Largest percent transmittance accepted (a little above 100 from noise and baseline drift).
 MAX_PERCENT = 110.0
 
@@ -223,6 +228,14 @@ def _check_monotonic(rows: _Rows, source: str | None) -> None:
             f"{word} order of the rows above",
             path=source,
             line=int(rows.lines[i]),
+        )
+    steps = np.abs(dx)
+    if rows.x.size < PEAK_TABLE_MAX_ROWS and steps.max() > PEAK_TABLE_SPACING * steps.min():
+        raise ReadError(
+            f"the {rows.x.size} rows are very unevenly spaced (x steps from {steps.min():g} to "
+            f"{steps.max():g}): this looks like a table of picked peaks, not a spectrum; type "
+            "peak lists as text, e.g. '3350 (br), 1715 (s) cm-1'",
+            path=source,
         )
 
 
