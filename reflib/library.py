@@ -1,0 +1,486 @@
+"""The public face of a reference library: add, search, list, show, remove.
+
+A :class:`Library` wraps one SQLite file (see :mod:`reflib.store`). Every CLI command is a call
+of this API::
+
+    from reflib import Library, read_spectrum
+    lib = Library.create("group.sqlite")
+    lib.add(read_spectrum("benzil-kbr.jdx"), name="benzil", role="intermediate", prep=["kbr"])
+    result = lib.search(read_spectrum("crude-17.jdx"), prep=["nujol"], top=5)
+    print(result.verdict, result.hits[0].name)
+
+A library match is evidence, not proof of identity.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from reflib import prep as prep_mod
+from reflib.encode import DEFAULT_ENCODING, Encoding, encode
+from reflib.errors import ValidationError
+from reflib.search import (
+    DEFAULT_RULE,
+    Hit,
+    SearchResult,
+    VerdictRule,
+    comparison_weights,
+    distinguishing_bands,
+    explain,
+    score_all,
+)
+from reflib.spectrum import PeakList, Spectrum
+from reflib.store import Store, VectorSet, normalise_role
+
+#: A new spectrum whose best match is another compound at this verdict triggers a warning.
+SIMILAR_WARNING_VERDICT = "confident"
+
+
+@dataclass
+class AddResult:
+    """What :meth:`Library.add` did."""
+
+    compound_id: int
+    spectrum_id: int
+    name: str
+    new_compound: bool
+    warnings: list[str] = field(default_factory=list)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "compound_id": self.compound_id,
+            "spectrum_id": self.spectrum_id,
+            "name": self.name,
+            "new_compound": self.new_compound,
+            "warnings": list(self.warnings),
+        }
+
+
+def to_peaks(data: Spectrum | PeakList) -> PeakList:
+    """The peak list of a spectrum (picked) or a peak list itself."""
+    if isinstance(data, PeakList):
+        return data
+    if isinstance(data, Spectrum):
+        from reflib.peaks import pick_peaks
+
+        return pick_peaks(data)
+    raise ValidationError(f"expected a Spectrum or PeakList, got {type(data).__name__}")
+
+
+def data_range(data: Spectrum | PeakList) -> tuple[float | None, float | None]:
+    """The wavenumber range (cm-1) a spectrum covers; (None, None) for a peak list."""
+    if isinstance(data, Spectrum):
+        return data.range_cm1
+    return (None, None)
+
+
+class Library:
+    """One reference library file.
+
+    Use :meth:`create` for a new file and :meth:`open` for an existing one; both accept
+    ``":memory:"`` for create (handy in scripts and benchmarks). A Library is a context manager.
+    """
+
+    def __init__(self, store: Store, rule: VerdictRule = DEFAULT_RULE):
+        self.store = store
+        self.rule = rule
+        self._vectors: tuple[int, VectorSet] | None = None
+
+    # --- life cycle ---------------------------------------------------------------------------
+
+    @classmethod
+    def create(cls, path: str | Path, *, encoding: Encoding = DEFAULT_ENCODING) -> Library:
+        """Create a new, empty library at ``path`` (refuses to overwrite a file)."""
+        return cls(Store.create(path, encoding))
+
+    @classmethod
+    def open(cls, path: str | Path) -> Library:
+        """Open an existing library; a clear error when it is missing or too new."""
+        return cls(Store.open(path))
+
+    def close(self) -> None:
+        self.store.close()
+
+    def __enter__(self) -> Library:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    @property
+    def path(self) -> str:
+        return self.store.path
+
+    @property
+    def encoding(self) -> Encoding:
+        return self.store.encoding
+
+    @property
+    def revision(self) -> int:
+        return self.store.revision
+
+    # --- adding -------------------------------------------------------------------------------
+
+    def add(
+        self,
+        data: Spectrum | PeakList,
+        *,
+        name: str,
+        smiles: str | None = None,
+        role: str | None = None,
+        prep: str | Iterable[str] | None = None,
+        notebook: str | None = None,
+        operator: str | None = None,
+        note: str | None = None,
+        aliases: Iterable[str] = (),
+        force: bool = False,
+        strict: bool = False,
+        check_similar: bool = True,
+    ) -> AddResult:
+        """Add one spectrum (or typed peak list) of a confirmed compound.
+
+        A new name creates the compound; a known name adds another spectrum to it (a second
+        preparation, say). An exact duplicate file (same SHA-256) is refused unless ``force``.
+        The returned warnings name any *other* compound the new spectrum matches confidently
+        (the same compound under another name, a mislabel, or an impure sample).
+        """
+        name = _clean_name(name)
+        role_word = normalise_role(role) if role is not None else None
+        tokens = prep_mod.parse_tokens(prep) if prep is not None else []
+        tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(data.meta.prep)]))
+        if data.meta.sha256 and not force:
+            dup = self.store.spectrum_by_sha(data.meta.sha256)
+            if dup:
+                raise ValidationError(
+                    f"this file is already in the library as spectrum {dup['id']} of "
+                    f"{dup['name']!r}; use --force to add it again"
+                )
+        peaks = to_peaks(data)
+        if len(peaks) == 0:
+            raise ValidationError("no bands found in this spectrum; nothing to add")
+        enc = self.encoding
+        vector = encode(peaks, enc)
+        existing = self.store.compound_by_name(name)
+        warnings: list[str] = []
+        structure = _structure(smiles) if smiles else None
+        if existing and structure and existing.get("canonical_smiles"):
+            if existing["canonical_smiles"] != structure["canonical_smiles"]:
+                raise ValidationError(
+                    f"{name!r} is in the library with SMILES {existing['smiles']}, "
+                    f"not {smiles}; use another name or fix the SMILES"
+                )
+        if smiles:
+            warnings += _consistency_warnings(data, peaks, smiles, tokens, strict=strict)
+        if check_similar and self.store.counts()["spectra"]:
+            warnings += self._similar_warnings(data, peaks, tokens, name, existing)
+        with self.store.write():
+            if existing:
+                cid = int(existing["id"])
+                new_compound = False
+                if role_word and role_word != existing["role"]:
+                    self.store.conn.execute(
+                        "UPDATE compounds SET role = ? WHERE id = ?", (role_word, cid)
+                    )
+            else:
+                rec: dict[str, Any] = {
+                    "name": name,
+                    "aliases": list(aliases),
+                    "role": role_word or "other",
+                    "notebook": notebook,
+                    "notes": note,
+                    "added_by": operator,
+                    "smiles": smiles,
+                }
+                if structure:
+                    rec.update(structure)
+                cid = self.store.insert_compound(rec)
+                new_compound = True
+            sid = self.store.insert_spectrum(
+                cid,
+                data,
+                peaks,
+                vector,
+                enc.key(),
+                prep=tokens,
+                operator=operator,
+                notes=note if not new_compound else None,
+            )
+        self._vectors = None
+        return AddResult(cid, sid, name, new_compound, warnings)
+
+    def add_many(
+        self, items: Iterable[dict[str, Any]], *, check_similar: bool = False
+    ) -> list[AddResult]:
+        """Add many entries; each item is a dict of :meth:`add`'s keywords plus ``data``.
+
+        Each item is its own transaction: a bad item raises after the good ones before it are in.
+        """
+        return [
+            self.add(
+                item["data"],
+                check_similar=check_similar,
+                **{k: v for k, v in item.items() if k != "data"},
+            )
+            for item in items
+        ]
+
+    def _similar_warnings(
+        self,
+        data: Spectrum | PeakList,
+        peaks: PeakList,
+        tokens: list[str],
+        name: str,
+        existing: dict[str, Any] | None,
+    ) -> list[str]:
+        res = self._search_peaks(peaks, data_range(data), tokens, top=3, profile=None)
+        if not res.hits:
+            return []
+        own_id = existing["id"] if existing else None
+        others = [h for h in res.hits if h.compound_id != own_id]
+        if not others:
+            return []
+        top = others[0]
+        if res.hits[0].compound_id == top.compound_id and res.verdict == SIMILAR_WARNING_VERDICT:
+            return [
+                f"this spectrum matches {top.name!r} (compound {top.compound_id}) with score "
+                f"{top.score:.2f}: the same compound under another name, a mislabel, or an "
+                "impure sample?"
+            ]
+        return []
+
+    # --- searching ----------------------------------------------------------------------------
+
+    def _vector_set(self) -> VectorSet:
+        rev = self.revision
+        if self._vectors is None or self._vectors[0] != rev:
+            self._vectors = (rev, self.store.load_vectors(self.encoding.key()))
+        return self._vectors[1]
+
+    def search(
+        self,
+        query: Spectrum | PeakList,
+        *,
+        prep: str | Iterable[str] | None = None,
+        top: int = 5,
+        weights: str | None = None,
+    ) -> SearchResult:
+        """Rank the library against ``query`` and explain the top hits band by band.
+
+        ``prep`` lists the query's preparation tokens (added to any the file names); ``weights``
+        is a region profile (``functional``, ``fingerprint`` or ranges like ``1800-1650:3``).
+        """
+        if top < 1:
+            raise ValidationError(f"--top must be at least 1, got {top}")
+        tokens = prep_mod.parse_tokens(prep) if prep is not None else []
+        tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(query.meta.prep)]))
+        peaks = to_peaks(query)
+        res = self._search_peaks(peaks, data_range(query), tokens, top=top, profile=weights)
+        res.query_file = query.meta.source_file
+        return res
+
+    def _search_peaks(
+        self,
+        peaks: PeakList,
+        qrange: tuple[float | None, float | None],
+        tokens: list[str],
+        *,
+        top: int,
+        profile: str | None,
+    ) -> SearchResult:
+        enc = self.encoding
+        grid = enc.grid()
+        vs = self._vector_set()
+        q = encode(peaks, enc)
+        lo = qrange[0] if qrange[0] is not None else enc.lo
+        hi = qrange[1] if qrange[1] is not None else enc.hi
+        masked = prep_mod.merged_regions(tokens, air=True)
+        if vs.matrix.shape[0] == 0 or not np.any(q):
+            reason = "the library is empty" if vs.matrix.shape[0] == 0 else "no bands in the query"
+            return SearchResult(None, tokens, (lo, hi), "no-match", reason, [], masked)
+        scores = score_all(q, vs.matrix, vs.preps, vs.ranges, enc, tokens, qrange, profile)
+        # best spectrum per compound
+        order = np.argsort(-scores, kind="stable")
+        seen: set[int] = set()
+        picks: list[int] = []
+        for i in order:
+            cid = int(vs.compound_ids[i])
+            if cid in seen:
+                continue
+            seen.add(cid)
+            picks.append(int(i))
+            if len(picks) >= max(top, 2):
+                break
+        hits: list[Hit] = []
+        explanations = []
+        names = self._names([int(vs.compound_ids[i]) for i in picks])
+        for rank, i in enumerate(picks, start=1):
+            sid = int(vs.spectrum_ids[i])
+            cid = int(vs.compound_ids[i])
+            ref_peaks = self.store.peaks_of(sid)
+            w = comparison_weights(enc, tokens, vs.preps[i], qrange, vs.ranges[i], profile)
+            ex = explain(peaks, ref_peaks, grid, w)
+            explanations.append((ex, ref_peaks, w))
+            hits.append(
+                Hit(
+                    rank=rank,
+                    name=names[cid][0],
+                    compound_id=cid,
+                    spectrum_id=sid,
+                    score=float(scores[i]),
+                    role=names[cid][1],
+                    prep=list(vs.preps[i]),
+                    matched=ex.matched,
+                    missing=ex.missing,
+                    new=ex.new,
+                )
+            )
+        ex1 = explanations[0][0]
+        s1 = hits[0].score
+        s2 = hits[1].score if len(hits) > 1 else 0.0
+        features = {
+            "score": s1,
+            "second": s2,
+            "margin": s1 - s2,
+            "strong_new": float(ex1.strong_new),
+            "strong_missing": float(ex1.strong_missing),
+            "matched_strength": ex1.matched_strength,
+            "n_query_bands": float(len(peaks)),
+        }
+        verdict, reason = self.rule.decide(features)
+        distinguishing: dict[str, list[float]] = {}
+        if verdict == "ambiguous" and len(hits) > 1 and features["margin"] < self.rule.min_margin:
+            _, p1, w1 = explanations[0]
+            _, p2, _ = explanations[1]
+            only1, only2 = distinguishing_bands(p1, p2, grid, w1)
+            distinguishing = {hits[0].name: only1, hits[1].name: only2}
+        return SearchResult(
+            query_file=None,
+            query_prep=tokens,
+            range_cm1=(float(max(lo, enc.lo)), float(min(hi, enc.hi))),
+            verdict=verdict,
+            reason=reason,
+            hits=hits[:top],
+            masked=masked,
+            features=features,
+            distinguishing=distinguishing,
+        )
+
+    def _names(self, compound_ids: list[int]) -> dict[int, tuple[str, str]]:
+        if not compound_ids:
+            return {}
+        q = ",".join("?" * len(compound_ids))
+        rows = self.store.conn.execute(
+            f"SELECT id, name, role FROM compounds WHERE id IN ({q})", compound_ids
+        ).fetchall()
+        return {int(r[0]): (r[1], r[2]) for r in rows}
+
+    # --- browsing -----------------------------------------------------------------------------
+
+    def compounds(self, *, role: str | None = None, match: str | None = None) -> list[dict]:
+        """Compounds with their spectrum count, optionally by role or a name fragment."""
+        rows = self.store.list_compounds(role=role, match=match)
+        for r in rows:
+            r["preps"] = sorted({t for p in (r.get("preps") or "").split(",") for t in [p] if t})
+        return rows
+
+    def show(self, ref: str | int) -> dict[str, Any]:
+        """One compound with its spectra and their peak lists."""
+        import json
+
+        c = self.store.find_compound(ref)
+        c["aliases"] = json.loads(c.get("aliases") or "[]")
+        c["tags"] = json.loads(c.get("tags") or "[]")
+        spectra = self.store.spectra_of(int(c["id"]))
+        for s in spectra:
+            s["prep"] = [t for t in (s["prep"] or "").split(",") if t]
+            s["peaks"] = self.store.peaks_of(int(s["id"])).to_dict()["peaks"]
+        c["spectra"] = spectra
+        return c
+
+    def remove(self, ref: str | int) -> dict[str, Any]:
+        """Remove a compound and all its spectra; returns what was removed."""
+        c = self.store.find_compound(ref)
+        n = len(self.store.spectra_of(int(c["id"])))
+        self.store.remove_compound(int(c["id"]))
+        self._vectors = None
+        return {"compound_id": int(c["id"]), "name": c["name"], "spectra": n}
+
+    def peaks(self, spectrum_id: int) -> PeakList:
+        """The stored peak list of one spectrum."""
+        return self.store.peaks_of(spectrum_id)
+
+    def reindex(self, encoding: Encoding | None = None) -> int:
+        """Re-encode every stored peak list (with ``encoding`` if given); returns the count."""
+        import json
+
+        enc = encoding or self.encoding
+        ids = [r[0] for r in self.store.conn.execute("SELECT id FROM spectra ORDER BY id")]
+        vectors = [(sid, encode(self.store.peaks_of(sid), enc)) for sid in ids]
+        from reflib.store import pack_vector
+
+        with self.store.write():
+            self.store.set_meta("encoding", json.dumps(enc.to_dict(), sort_keys=True))
+            self.store.conn.execute("DELETE FROM vectors")
+            self.store.conn.executemany(
+                "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)",
+                [(sid, enc.key(), pack_vector(v)) for sid, v in vectors],
+            )
+        self._vectors = None
+        return len(ids)
+
+
+def _consistency_warnings(
+    data: Spectrum | PeakList, peaks: PeakList, smiles: str, tokens: list[str], *, strict: bool
+) -> list[str]:
+    """Warnings where the spectrum contradicts the structure; with ``strict`` they refuse."""
+    from reflib import structure
+
+    masked = [(lo, hi) for lo, hi, _ in prep_mod.merged_regions(tokens, air=False)]
+    lo, hi = data_range(data)
+    covered = (lo, hi) if lo is not None else None
+    phase = "gas" if "gas" in tokens else None
+    checked = PeakList(
+        peaks.positions,
+        peaks.intensities,
+        peaks.widths,
+        peaks.strengths,
+        peaks.broad,
+        peaks.shoulder,
+        meta=replace(peaks.meta, prep=list(tokens)),
+    )
+    report = structure.check_consistency(
+        checked, smiles, masked=masked, covered=covered, phase=phase
+    )
+    if strict and report.warnings:
+        raise ValidationError(
+            "refused (--strict): the spectrum contradicts the structure: "
+            + "; ".join(report.warnings)
+        )
+    return list(report.warnings)
+
+
+def _clean_name(name: str) -> str:
+    if name is None or not str(name).strip():
+        raise ValidationError("a compound needs a name (--name)")
+    name = " ".join(str(name).split())
+    if len(name) > 200:
+        raise ValidationError(f"name is {len(name)} characters long; at most 200")
+    return name
+
+
+def _structure(smiles: str) -> dict[str, Any]:
+    """Canonical SMILES, formula and InChIKey (RDKit); a clear error for an invalid SMILES."""
+    from reflib import structure
+
+    st = structure.parse_smiles(smiles)
+    return {
+        "smiles": smiles,
+        "canonical_smiles": st.canonical_smiles,
+        "formula": st.formula,
+        "inchikey": st.inchikey,
+    }

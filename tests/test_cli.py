@@ -1,0 +1,128 @@
+"""The command line: thin over the API; user mistakes give one line and exit status 2.
+
+Band positions in the typed peak lists are condensed-phase values from memory.
+"""
+
+import json
+import subprocess
+import sys
+
+import pytest
+from typer.testing import CliRunner
+
+from reflib.cli import app
+
+runner = CliRunner()
+
+ACETONE = "3005 w, 1715 vs, 1420 m, 1365 s, 1220 s, 1092 w, 530 m cm-1"
+BENZONITRILE = "3065 w, 2230 s, 1600 w, 1490 m, 1450 m, 760 vs, 690 vs, 550 m"
+
+
+def reflib(*args, cwd=None, env=None):
+    """Run the real console entry point in a subprocess (exit codes and stderr as a user sees)."""
+    return subprocess.run(
+        [sys.executable, "-m", "reflib.cli", *args],
+        capture_output=True,
+        text=True,
+        cwd=cwd,
+        env=env,
+    )
+
+
+@pytest.fixture()
+def libpath(tmp_path):
+    p = tmp_path / "lib.sqlite"
+    assert runner.invoke(app, ["init", str(p)]).exit_code == 0
+    for name, peaks, role in [
+        ("acetone", ACETONE, "solvent"),
+        ("benzonitrile", BENZONITRILE, "starting material"),
+    ]:
+        r = runner.invoke(
+            app, ["add", "-L", str(p), "--name", name, "--peaks", peaks, "--role", role]
+        )
+        assert r.exit_code == 0, r.output
+    return p
+
+
+def test_add_list_show_search(libpath, tmp_path):
+    r = runner.invoke(app, ["list", "-L", str(libpath)])
+    assert "acetone" in r.output and "benzonitrile" in r.output
+    r = runner.invoke(app, ["show", "-L", str(libpath), "benzonitrile"])
+    assert "2230" in r.output
+    q = tmp_path / "unknown.txt"
+    q.write_text("IR (film): 3060 w, 2228 s, 1598 w, 1489 m, 1447 m, 758 vs, 688 vs, 548 m cm-1")
+    r = runner.invoke(app, ["search", "-L", str(libpath), str(q), "--json"])
+    assert r.exit_code == 0, r.output
+    d = json.loads(r.output)
+    assert d["hits"][0]["name"] == "benzonitrile"
+    assert d["query"]["prep"] == ["film"]
+    assert set(d["hits"][0]) >= {
+        "rank",
+        "name",
+        "compound_id",
+        "spectrum_id",
+        "score",
+        "matched",
+        "missing",
+        "new",
+    }
+    r = runner.invoke(app, ["search", "-L", str(libpath), str(q)])
+    assert "benzonitrile" in r.output and "evidence, not proof" in r.output
+
+
+def test_environment_variable_names_the_library(libpath, tmp_path):
+    r = runner.invoke(app, ["list"], env={"REFLIB_LIBRARY": str(libpath)})
+    assert "acetone" in r.output
+
+
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (["list", "-L", "missing.sqlite"], "reflib init"),
+        (["peaks", "no-such-file.jdx"], "no such file"),
+        (["search", "-L", "{lib}", "{q}", "--prep", "nujoll"], "nujol"),
+        (["show", "-L", "{lib}", "benzoin"], "no compound"),
+        (
+            ["add", "-L", "{lib}", "--name", "x", "--peaks", "1715 vs", "--role", "catalystish"],
+            "role",
+        ),
+        (["add", "-L", "{lib}", "--name", "x", "--peaks", "hello"], "--peaks"),
+        (["search", "-L", "{lib}", "{q}", "--weights", "carbonyl"], "profile"),
+    ],
+)
+def test_user_mistakes_exit_2_with_one_line(libpath, tmp_path, args, fragment):
+    q = tmp_path / "q.txt"
+    q.write_text(ACETONE)
+    args = [a.format(lib=libpath, q=q) for a in args]
+    r = reflib(*args, cwd=tmp_path)
+    assert r.returncode == 2, (r.stdout, r.stderr)
+    lines = r.stderr.strip().splitlines()
+    assert len(lines) == 1 and "Traceback" not in r.stderr
+    assert fragment in lines[0]
+
+
+def test_remove_needs_yes_when_not_interactive(libpath, tmp_path):
+    r = reflib("remove", "-L", str(libpath), "acetone", cwd=tmp_path)
+    assert r.returncode == 2 and "--yes" in r.stderr
+    r = reflib("remove", "-L", str(libpath), "acetone", "--yes", cwd=tmp_path)
+    assert r.returncode == 0
+    assert "acetone" not in reflib("list", "-L", str(libpath)).stdout
+
+
+def test_import_manifest_reports_failures_and_keeps_good_ones(tmp_path):
+    lib = tmp_path / "lib.sqlite"
+    reflib("init", str(lib))
+    (tmp_path / "a.txt").write_text(ACETONE)
+    (tmp_path / "b.txt").write_text(BENZONITRILE)
+    (tmp_path / "bad.txt").write_text("not a spectrum at all")
+    (tmp_path / "m.csv").write_text(
+        "file,name,prep,role\na.txt,acetone,film,solvent\nb.txt,benzonitrile,,\n"
+        "bad.txt,broken,,\nmissing.txt,ghost,,\n"
+    )
+    r = reflib("import", "-L", str(lib), str(tmp_path / "m.csv"))
+    assert r.returncode == 1
+    assert "added 2" in r.stdout and "failed 2" in r.stdout
+    assert "bad.txt" in r.stdout and "missing.txt" in r.stdout
+    # run again: the good ones are skipped by file hash, not added twice
+    r = reflib("import", "-L", str(lib), str(tmp_path / "m.csv"))
+    assert "added 0, skipped 2" in r.stdout
