@@ -149,6 +149,12 @@ def _read_rows(text: str, source: str | None) -> tuple[_Rows, str | None]:
     for number, line in lines:
         fields = _split(line, sep)
         values = [_field_value(f, sep != ",") for f in fields]
+        if xs and any(not f.strip("\"' ") for f in fields):
+            raise ReadError(
+                f"empty field in a row of {len(fields)} columns: {line[:60]!r}",
+                path=source,
+                line=number,
+            )
         if not fields or any(v is None for v in values):
             if not xs:
                 header.append(line)
@@ -156,12 +162,6 @@ def _read_rows(text: str, source: str | None) -> tuple[_Rows, str | None]:
             raise ReadError(
                 f"expected two numbers ({_SEPARATORS[sep]}-separated) like the rows above, "
                 f"got {line[:60]!r}",
-                path=source,
-                line=number,
-            )
-        if any(not f.strip("\"' ") for f in fields):
-            raise ReadError(
-                f"empty field in a row of {len(fields)} columns: {line[:60]!r}",
                 path=source,
                 line=number,
             )
