@@ -381,6 +381,23 @@ def demo() -> None:
     typer.echo("reflib demo: coming. The library and search land next; nothing is run yet.")
 
 
+def _register_plugins() -> None:
+    """Commands that live in their own modules (each defines ``register(app)``)."""
+    import importlib
+
+    for mod in ("reflib.cli_mixture", "reflib.cli_health"):
+        try:
+            module = importlib.import_module(mod)
+        except ModuleNotFoundError as exc:
+            if exc.name != mod:
+                raise
+            continue
+        module.register(app)
+
+
+_register_plugins()
+
+
 def main() -> None:
     """Entry point of the ``reflib`` console script."""
     try:
