@@ -214,6 +214,15 @@ GROUPS: dict[str, list[Band]] = {
         (840, 850, (0.85, 1.0), MED, "Si-C rock"),
         (758, 762, (0.35, 0.5), SHARP, "Si-C stretch"),
     ],
+    "alkyne_diyne_symmetric": [
+        (2210, 2220, (0.03, 0.06), (10, 14), "C#C-C#C stretch (weak, near-symmetric)"),
+        (2140, 2150, (0.05, 0.08), (10, 14), "C#C-C#C stretch"),
+    ],
+    "trimethylsilyl": [
+        (1248, 1252, (0.6, 0.75), SHARP, "Si-CH3 bend"),
+        (840, 850, (0.85, 1.0), MED, "Si-C rock"),
+        (758, 762, (0.4, 0.5), SHARP, "Si-C stretch"),
+    ],
     "alkene_vinyl": [
         (3080, 3090, (0.15, 0.25), MED, "=C-H stretch"),
         (1638, 1645, (0.2, 0.35), MED, "C=C stretch"),
@@ -886,6 +895,7 @@ def apply_prep(
     *,
     air: float = 1.0,
     truncate_windows: bool | None = None,
+    subtract_solvent: bool | None = None,
 ) -> Spectrum:
     """What a preparation does to a clean absorbance spectrum (invented, for benchmarks).
 
@@ -899,6 +909,9 @@ def apply_prep(
       noise where the diamond absorbs;
     * KBr pellets and mulls: a scattering slope rising toward high wavenumber;
     * always: a little uncompensated CO2 and water vapour (``air`` scales it).
+
+    ``subtract_solvent``: True = the solvent's spectrum was subtracted (a residue of either sign
+    and noise where it was opaque), False = not, None = at random (35 % subtracted).
     """
     from reflib import prep  # imported late: the simulator itself needs only reflib.spectrum
 
@@ -911,7 +924,11 @@ def apply_prep(
         y = y * (1000.0 / x) * rng.uniform(0.9, 1.3)
     if any(k in ("pellet", "mull") for k in kinds.values()):
         y = y + rng.uniform(0.02, 0.15) * (x / 4000.0) ** 2
-    subtracted = {t: kinds[t] == "solution" and rng.uniform() < 0.35 for t in toks}
+    subtracted = {
+        t: kinds[t] == "solution"
+        and (rng.uniform() < 0.35 if subtract_solvent is None else subtract_solvent)
+        for t in toks
+    }
     scale = {}
     for t in toks:
         if kinds[t] == "mull":
@@ -934,7 +951,7 @@ def apply_prep(
         # a solvent band that makes its region opaque is several absorbance units in the cell
         deep = np.array(
             [
-                rng.uniform(4.0, 8.0)
+                rng.uniform(2.0, 4.0)
                 if not subtracted[b[3]]
                 and any(lo <= b[0] <= hi and t == b[3] for lo, hi, t in opaque)
                 else 1.0
@@ -943,7 +960,7 @@ def apply_prep(
         )
         h = np.array([b[1] * scale[b[3]] for b in own], float) * deep
         w = np.array([b[2] if np.isfinite(b[2]) else 10.0 for b in own], float)
-        y = y + band_shapes(x, pos, h, w, 0.5)
+        y = y + band_shapes(x, pos, h, w, 0.3)
     y = y + air_bands(x, rng, air)
     for region in prep.regions_for(toks, air=False):
         m = (x >= region.lo) & (x <= region.hi)
