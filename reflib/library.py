@@ -32,10 +32,9 @@ from reflib.search import (
     comparison_weights,
     distinguishing_bands,
     explain,
-    score_all,
 )
 from reflib.spectrum import PeakList, Spectrum
-from reflib.store import Store, VectorSet, normalise_role
+from reflib.store import Store, normalise_role
 
 #: A new spectrum whose best match is another compound at this verdict triggers a warning.
 SIMILAR_WARNING_VERDICT = "confident"
@@ -89,7 +88,7 @@ class Library:
     def __init__(self, store: Store, rule: VerdictRule = DEFAULT_RULE):
         self.store = store
         self.rule = rule
-        self._vectors: tuple[int, VectorSet] | None = None
+        self._index = None
 
     # --- life cycle ---------------------------------------------------------------------------
 
@@ -210,7 +209,7 @@ class Library:
                 operator=operator,
                 notes=note if not new_compound else None,
             )
-        self._vectors = None
+        self._index = None
         return AddResult(cid, sid, name, new_compound, warnings)
 
     def add_many(
@@ -255,11 +254,14 @@ class Library:
 
     # --- searching ----------------------------------------------------------------------------
 
-    def _vector_set(self) -> VectorSet:
+    def index(self):
+        """The search index (:mod:`reflib.index`): cached beside the file, rebuilt when stale."""
+        from reflib import index as index_mod
+
         rev = self.revision
-        if self._vectors is None or self._vectors[0] != rev:
-            self._vectors = (rev, self.store.load_vectors(self.encoding.key()))
-        return self._vectors[1]
+        if self._index is None or self._index.key.get("revision") != rev:
+            self._index = index_mod.load(self.store)
+        return self._index
 
     def search(
         self,
@@ -274,14 +276,60 @@ class Library:
         ``prep`` lists the query's preparation tokens (added to any the file names); ``weights``
         is a region profile (``functional``, ``fingerprint`` or ranges like ``1800-1650:3``).
         """
+        return self.search_many([query], prep=prep, top=top, weights=weights)[0]
+
+    def search_many(
+        self,
+        queries: Iterable[Spectrum | PeakList],
+        *,
+        prep: str | Iterable[str] | None = None,
+        top: int = 5,
+        weights: str | None = None,
+    ) -> list[SearchResult]:
+        """Search many unknowns at once: one blocked matrix-matrix product per group.
+
+        Queries that share preparation and covered range are scored together.
+        """
         if top < 1:
             raise ValidationError(f"--top must be at least 1, got {top}")
-        tokens = prep_mod.parse_tokens(prep) if prep is not None else []
-        tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(query.meta.prep)]))
-        peaks = to_peaks(query)
-        res = self._search_peaks(peaks, data_range(query), tokens, top=top, profile=weights)
-        res.query_file = query.meta.source_file
-        return res
+        from reflib.encode import parse_profile
+
+        parse_profile(weights)  # validate before any work
+        user_tokens = prep_mod.parse_tokens(prep) if prep is not None else []
+        prepared = []
+        for qry in queries:
+            tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
+            peaks = to_peaks(qry)
+            prepared.append((qry, peaks, data_range(qry), tokens))
+        return self._search_prepared(prepared, top=top, profile=weights)
+
+    def _search_prepared(self, prepared: list, *, top: int, profile: str | None) -> list:
+        from reflib.search import score_index
+
+        enc = self.encoding
+        idx = self.index()
+        vectors = [encode(p[1], enc) for p in prepared]
+        results: list[SearchResult | None] = [None] * len(prepared)
+        batches: dict[tuple, list[int]] = {}
+        for i, (_, _, qrange, tokens) in enumerate(prepared):
+            key = (tuple(tokens), _round_range(qrange))
+            batches.setdefault(key, []).append(i)
+        for (tokens, _), members in batches.items():
+            qrange = prepared[members[0]][2]
+            qmat = np.vstack([vectors[i] for i in members])
+            scores = (
+                score_index(qmat, idx, enc, list(tokens), qrange, profile)
+                if idx.size
+                else np.zeros((0, len(members)))
+            )
+            for col, i in enumerate(members):
+                qry, peaks, qr, tk = prepared[i]
+                res = self._explain_hits(
+                    peaks, vectors[i], qr, tk, scores[:, col], idx, top, profile
+                )
+                res.query_file = qry.meta.source_file
+                results[i] = res
+        return results  # type: ignore[return-value]
 
     def _search_peaks(
         self,
@@ -292,37 +340,58 @@ class Library:
         top: int,
         profile: str | None,
     ) -> SearchResult:
+        holder = PeakList(np.zeros(0), np.zeros(0))
+        holder.meta.prep = []
+        return self._search_prepared([(holder, peaks, qrange, tokens)], top=top, profile=profile)[0]
+
+    def _explain_hits(
+        self,
+        peaks: PeakList,
+        q: np.ndarray,
+        qrange: tuple[float | None, float | None],
+        tokens: list[str],
+        scores: np.ndarray,
+        idx,
+        top: int,
+        profile: str | None,
+    ) -> SearchResult:
         enc = self.encoding
         grid = enc.grid()
-        vs = self._vector_set()
-        q = encode(peaks, enc)
         lo = qrange[0] if qrange[0] is not None else enc.lo
         hi = qrange[1] if qrange[1] is not None else enc.hi
-        masked = prep_mod.merged_regions(tokens, air=True)
-        if vs.matrix.shape[0] == 0 or not np.any(q):
-            reason = "the library is empty" if vs.matrix.shape[0] == 0 else "no bands in the query"
+        within = (max(lo, enc.lo), min(hi, enc.hi))
+        masked = prep_mod.merged_regions(tokens, air=True, within=within)
+        if idx.size == 0 or not np.any(q):
+            reason = "the library is empty" if idx.size == 0 else "no bands in the query"
             return SearchResult(None, tokens, (lo, hi), "no-match", reason, [], masked)
-        scores = score_all(q, vs.matrix, vs.preps, vs.ranges, enc, tokens, qrange, profile)
-        # best spectrum per compound
-        order = np.argsort(-scores, kind="stable")
-        seen: set[int] = set()
-        picks: list[int] = []
-        for i in order:
-            cid = int(vs.compound_ids[i])
-            if cid in seen:
-                continue
-            seen.add(cid)
-            picks.append(int(i))
-            if len(picks) >= max(top, 2):
+        # best spectrum per compound: look at enough rows to find top+1 distinct compounds
+        want = max(top, 2)
+        k = min(idx.size, max(4 * want, 32))
+        while True:
+            cand = np.argpartition(-scores, k - 1)[:k] if k < idx.size else np.arange(idx.size)
+            cand = cand[np.argsort(-scores[cand], kind="stable")]
+            picks: list[int] = []
+            seen: set[int] = set()
+            for i in cand:
+                cid = int(idx.compound_ids[i])
+                if cid not in seen:
+                    seen.add(cid)
+                    picks.append(int(i))
+                    if len(picks) >= want:
+                        break
+            if len(picks) >= want or k >= idx.size:
                 break
+            k = min(idx.size, 4 * k)
+        group_of = _group_lookup(idx)
         hits: list[Hit] = []
         explanations = []
-        names = self._names([int(vs.compound_ids[i]) for i in picks])
+        names = self._names([int(idx.compound_ids[i]) for i in picks])
         for rank, i in enumerate(picks, start=1):
-            sid = int(vs.spectrum_ids[i])
-            cid = int(vs.compound_ids[i])
+            sid = int(idx.spectrum_ids[i])
+            cid = int(idx.compound_ids[i])
+            g = group_of(i)
             ref_peaks = self.store.peaks_of(sid)
-            w = comparison_weights(enc, tokens, vs.preps[i], qrange, vs.ranges[i], profile)
+            w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile)
             ex = explain(peaks, ref_peaks, grid, w)
             explanations.append((ex, ref_peaks, w))
             hits.append(
@@ -333,7 +402,7 @@ class Library:
                     spectrum_id=sid,
                     score=float(scores[i]),
                     role=names[cid][1],
-                    prep=list(vs.preps[i]),
+                    prep=list(g.prep),
                     matched=ex.matched,
                     missing=ex.missing,
                     new=ex.new,
@@ -358,6 +427,7 @@ class Library:
             _, p2, _ = explanations[1]
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
+        _annotate(hits)
         return SearchResult(
             query_file=None,
             query_prep=tokens,
@@ -407,7 +477,7 @@ class Library:
         c = self.store.find_compound(ref)
         n = len(self.store.spectra_of(int(c["id"])))
         self.store.remove_compound(int(c["id"]))
-        self._vectors = None
+        self._index = None
         return {"compound_id": int(c["id"]), "name": c["name"], "spectra": n}
 
     def peaks(self, spectrum_id: int) -> PeakList:
@@ -430,7 +500,7 @@ class Library:
                 "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)",
                 [(sid, enc.key(), pack_vector(v)) for sid, v in vectors],
             )
-        self._vectors = None
+        self._index = None
         return len(ids)
 
 
@@ -462,6 +532,32 @@ def _consistency_warnings(
             + "; ".join(report.warnings)
         )
     return list(report.warnings)
+
+
+def _round_range(r: tuple[float | None, float | None]) -> tuple:
+    return tuple(None if v is None else round(v / 10) * 10.0 for v in r)
+
+
+def _group_lookup(idx):
+    starts = np.array([g.start for g in idx.groups], dtype=np.int64)
+
+    def group_of(row: int):
+        return idx.groups[int(np.searchsorted(starts, row, side="right")) - 1]
+
+    return group_of
+
+
+def _annotate(hits: list[Hit]) -> None:
+    """Label the new bands of each hit with candidate groups (the most telling bands)."""
+    try:
+        from reflib import bands
+    except ImportError:  # pragma: no cover
+        return
+    for h in hits:
+        for pos in h.new:
+            cands = bands.candidates(pos, top=2)
+            if cands:
+                h.annotations[f"{pos:.1f}"] = " or ".join(c.label for c in cands)
 
 
 def _clean_name(name: str) -> str:

@@ -192,6 +192,58 @@ def score_all(
     return scores
 
 
+#: Rows scored per block: small enough that a block and its square stay in cache, so the
+#: numerator and the weighted norm cost about one pass over the matrix in memory.
+BLOCK_ROWS = 1024
+
+
+def score_block(
+    q: np.ndarray, refs: np.ndarray, w: np.ndarray, out: np.ndarray | None = None
+) -> np.ndarray:
+    """:func:`weighted_cosine` for queries ``q`` (m, bins) against ``refs``, block by block.
+
+    Returns an (n, m) array of scores. The weighted reference norms are computed in the same
+    pass as the dot products, block by block, so the matrix is read from memory once.
+    """
+    q = np.atleast_2d(np.asarray(q, dtype=np.float64))
+    w64 = np.asarray(w, dtype=np.float64)
+    wq = (q * w64).astype(np.float32).T.copy()  # (bins, m)
+    qn = np.sqrt(np.einsum("ij,ij->i", q * w64, q))  # (m,)
+    w32 = w64.astype(np.float32)
+    n = refs.shape[0]
+    scores = np.empty((n, q.shape[0]), dtype=np.float64) if out is None else out
+    for start in range(0, n, BLOCK_ROWS):
+        block = np.asarray(refs[start : start + BLOCK_ROWS])
+        num = block @ wq
+        rn = np.sqrt(np.maximum((block * block) @ w32, 0.0))
+        den = rn[:, None] * qn[None, :]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            s = np.where(den > 0, num / np.where(den > 0, den, 1.0), 0.0)
+        scores[start : start + block.shape[0]] = np.clip(s, 0.0, 1.0)
+    return scores
+
+
+def score_index(
+    q: np.ndarray,
+    index,
+    enc: Encoding,
+    query_prep: list[str],
+    query_range: tuple[float | None, float | None],
+    profile: str | None = None,
+) -> np.ndarray:
+    """Exact scores of one or more queries (m, bins) against every row of a
+    :class:`reflib.index.Index`: one weight vector and one blocked product per group.
+
+    All queries share ``query_prep``, ``query_range`` and ``profile``. Returns (n, m).
+    """
+    q = np.atleast_2d(q)
+    scores = np.zeros((index.size, q.shape[0]), dtype=np.float64)
+    for g in index.groups:
+        w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile)
+        score_block(q, index.matrix[g.start : g.stop], w, out=scores[g.start : g.stop])
+    return scores
+
+
 # --- band-by-band explanation ----------------------------------------------------------------
 
 
