@@ -350,7 +350,7 @@ def _tokens(line: str, n: int, source: str | None) -> list[tuple[int, float]]:
                 out.append((_DUPK, float(count)))
         except (ValueError, OverflowError):
             raise ReadError(
-                f"malformed number {m.group(0)!r} in XYDATA", path=source, line=n
+                f"malformed number {m.group(0)[:30]!r} in XYDATA", path=source, line=n
             ) from None
     for _kind, value in out:
         if not math.isfinite(value):
