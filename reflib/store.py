@@ -10,10 +10,18 @@ One library is one SQLite file any SQLite tool can open. Tables:
 ``peaks``      spectrum_id, position (cm-1), intensity (0..1), width (FWHM cm-1), strength,
                broad, shoulder
 ``vectors``    spectrum_id, encoding (key), data (float32 blob)
-``meta``       key, value: schema_version, encoding (JSON), revision
+``meta``       key, value: schema_version, encoding (JSON), revision, created_at, and from
+               schema 2 on library_id (random hex, names this library for caches and backups)
+               and reflib_version (the reflib that created or last migrated the file)
 
-Every write goes through :meth:`Store.write`, one transaction that bumps ``revision``; a reader
-that sees the same revision sees the same library.
+Every write goes through :meth:`Store.write`, one transaction (``BEGIN IMMEDIATE``) that bumps
+``revision``; a writer that finds the file locked by another process waits and retries with
+backoff. Several reads that must agree (the vectors of a search and the peaks of its hits) go in
+one :meth:`Store.read` transaction: in WAL mode it sees one snapshot however others write.
+
+Schema versions: a file of an older schema is migrated when opened, after a backup copy is
+written next to it (``lib.sqlite.v1-backup-20260101-120000``); a file of a newer schema is
+refused with the reflib version it needs.
 """
 
 from __future__ import annotations
@@ -21,7 +29,10 @@ from __future__ import annotations
 import contextlib
 import datetime as _dt
 import json
+import random
 import sqlite3
+import time
+import uuid
 import zlib
 from collections.abc import Iterator
 from dataclasses import dataclass
@@ -35,7 +46,10 @@ from reflib.encode import DEFAULT_ENCODING, Encoding
 from reflib.errors import LibraryError, NotFoundError, ValidationError
 from reflib.spectrum import Metadata, PeakList, Spectrum
 
-SCHEMA_VERSION = 1
+#: Schema this reflib writes. 1: the first layout. 2: meta rows library_id and reflib_version;
+#: peaks indexed by (spectrum_id, position), which serves both the lookup and the ordering of
+#: :meth:`Store.peaks_of` without a sort.
+SCHEMA_VERSION = 2
 ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
 ROLE_ALIASES = {
     "sm": "starting material",
@@ -45,7 +59,40 @@ ROLE_ALIASES = {
     "int": "intermediate",
     "prod": "product",
 }
+#: How long one SQLite call waits for another process's lock before reporting "locked" (s).
 BUSY_TIMEOUT_S = 30.0
+#: How long a writer keeps retrying ``BEGIN IMMEDIATE`` on a locked file before giving up (s).
+WRITE_RETRY_S = 120.0
+#: Full spectra with more points than this are refused (a 4000 cm-1 range at 0.01 cm-1 spacing
+#: is 400 000 points; no infrared instrument comes near the cap).
+MAX_STORED_POINTS = 2_000_000
+#: Peak lists with more bands than this are refused (a condensed-phase spectrum has tens).
+MAX_STORED_PEAKS = 5_000
+
+
+def _is_locked(exc: BaseException) -> bool:
+    msg = str(exc).lower()
+    return isinstance(exc, sqlite3.OperationalError) and ("locked" in msg or "busy" in msg)
+
+
+def _retry_locked(what: str, path: str, fn, *, retry_s: float | None = None):
+    """Call ``fn()``; while SQLite says the file is locked, sleep with backoff and call again."""
+    limit = WRITE_RETRY_S if retry_s is None else retry_s
+    deadline = time.monotonic() + limit
+    delay = 0.02
+    while True:
+        try:
+            return fn()
+        except sqlite3.OperationalError as exc:
+            if not _is_locked(exc):
+                raise
+            if time.monotonic() >= deadline:
+                raise LibraryError(
+                    f"{path} stayed locked by another process for over {limit:.0f} s while "
+                    f"{what}; try again when the other import or add has finished"
+                ) from None
+            time.sleep(delay * random.uniform(0.5, 1.5))
+            delay = min(delay * 2, 1.0)
 
 
 def normalise_role(role: str | None) -> str:
@@ -93,6 +140,7 @@ class Store:
         self.conn = conn
         self.path = path
         self.db = sqlite_utils.Database(conn)
+        self._txn: str | None = None  # None, "read" or "write"
 
     # --- opening -------------------------------------------------------------------------------
 
@@ -102,13 +150,20 @@ class Store:
         conn.execute("PRAGMA foreign_keys = ON")
         conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
         if path != ":memory:":
-            conn.execute("PRAGMA journal_mode = WAL")
+            # switching to WAL needs a moment of exclusive access: retry while others hold it
+            _retry_locked(
+                "switching it to WAL mode", path, lambda: conn.execute("PRAGMA journal_mode = WAL")
+            )
             conn.execute("PRAGMA synchronous = NORMAL")
         return conn
 
     @classmethod
     def create(cls, path: str | Path, encoding: Encoding = DEFAULT_ENCODING) -> Store:
-        """Create a new, empty library file. Refuses to overwrite an existing one."""
+        """Create a new, empty library file. Refuses to overwrite an existing one.
+
+        The file is built as schema 1 and brought to :data:`SCHEMA_VERSION` by the same
+        migrations an old library goes through, in one transaction.
+        """
         p = str(path)
         if p != ":memory:" and Path(p).exists():
             raise LibraryError(f"{p} already exists; open it instead of creating it")
@@ -119,12 +174,18 @@ class Store:
         except sqlite3.Error as exc:
             raise LibraryError(f"cannot create {p}: {exc}") from None
         store = cls(conn, p)
-        store._create_schema(encoding)
+        with store.write(bump=False):
+            create_schema_v1(store.db, encoding)
+            store._apply_migrations(1)
         return store
 
     @classmethod
-    def open(cls, path: str | Path) -> Store:
-        """Open an existing library, checking that this reflib can read its schema."""
+    def open(cls, path: str | Path, *, migrate: bool = True) -> Store:
+        """Open an existing library, checking that this reflib can read its schema.
+
+        A library of an older schema is migrated (after a backup copy is written next to it)
+        unless ``migrate`` is false; one of a newer schema is refused.
+        """
         p = str(path)
         if p == ":memory:":
             raise LibraryError("an in-memory library cannot be reopened; create it instead")
@@ -133,6 +194,8 @@ class Store:
                 f"no library at {p}; create one with 'reflib init {p}' "
                 "or point to yours with --library or REFLIB_LIBRARY"
             )
+        if Path(p).is_dir():
+            raise LibraryError(f"{p} is a folder, not a library file")
         try:
             conn = cls._connect(p)
             tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
@@ -142,97 +205,110 @@ class Store:
             conn.close()
             raise LibraryError(f"{p} is an SQLite file but not a reflib library (no meta table)")
         store = cls(conn, p)
-        version = int(store.get_meta("schema_version", "0"))
+        version = store.schema_version
         if version > SCHEMA_VERSION:
+            writer = store.get_meta("reflib_version")
             conn.close()
+            from reflib import __version__
+
+            need = f" {writer} or later" if writer and writer != __version__ else ""
             raise LibraryError(
-                f"{p} was written by a newer reflib (schema {version}); this reflib reads "
-                f"schema {SCHEMA_VERSION}: upgrade reflib to open it"
+                f"{p} was written by a newer reflib (library schema {version}); this reflib "
+                f"{__version__} reads schema {SCHEMA_VERSION} and older: upgrade reflib{need} "
+                "to open it"
             )
+        if version < 1:
+            conn.close()
+            raise LibraryError(f"{p} has no valid schema_version in its meta table")
+        if version < SCHEMA_VERSION and migrate:
+            store.migrate()
         return store
 
     def close(self) -> None:
         self.conn.close()
 
-    def _create_schema(self, encoding: Encoding) -> None:
-        with self.write(bump=False):
-            db = self.db
-            db["meta"].create({"key": str, "value": str}, pk="key")
-            db["compounds"].create(
-                {
-                    "id": int,
-                    "name": str,
-                    "aliases": str,
-                    "smiles": str,
-                    "canonical_smiles": str,
-                    "formula": str,
-                    "inchikey": str,
-                    "role": str,
-                    "tags": str,
-                    "notebook": str,
-                    "notes": str,
-                    "added_by": str,
-                    "added_at": str,
-                },
-                pk="id",
-                not_null={"name", "role", "added_at"},
+    @property
+    def schema_version(self) -> int:
+        """The schema version recorded in the file (0 when missing or unreadable)."""
+        try:
+            return int(self.get_meta("schema_version", "0") or 0)
+        except ValueError:
+            return 0
+
+    # --- schema versions -----------------------------------------------------------------------
+
+    def migrate(self) -> str | None:
+        """Bring an older library to :data:`SCHEMA_VERSION`; returns the backup path written.
+
+        First a backup copy is written next to the file through SQLite's online backup API
+        (``<name>.v<old>-backup-YYYYmmdd-HHMMSS``), then every step runs in one transaction:
+        an interruption leaves the file at its old version, never half-migrated. Returns None
+        when there was nothing to do (another process may have migrated it meanwhile).
+        """
+        old = self.schema_version
+        if old >= SCHEMA_VERSION:
+            return None
+        stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
+        dest = Path(f"{self.path}.v{old}-backup-{stamp}")
+        n = 1
+        while dest.exists():
+            n += 1
+            dest = Path(f"{self.path}.v{old}-backup-{stamp}-{n}")
+        try:
+            self.backup(dest)
+        except LibraryError as exc:
+            raise LibraryError(
+                f"not migrating {self.path} from schema {old}: the backup copy failed ({exc})"
+            ) from None
+        try:
+            with self.write():
+                current = self.schema_version  # re-read under the write lock
+                if current >= SCHEMA_VERSION:
+                    return str(dest)
+                self._apply_migrations(current)
+        except sqlite3.Error as exc:
+            raise LibraryError(
+                f"migrating {self.path} from schema {old} failed ({exc}); the file is "
+                f"unchanged and a copy is at {dest}"
+            ) from None
+        return str(dest)
+
+    def _apply_migrations(self, version: int) -> None:
+        """Run every migration step above ``version`` (call inside :meth:`write`)."""
+        from reflib import __version__
+
+        for target in range(version + 1, SCHEMA_VERSION + 1):
+            MIGRATIONS[target](self.conn)
+            self.set_meta("schema_version", str(target))
+        self.set_meta("reflib_version", __version__)
+
+    def backup(self, dest: str | Path) -> str:
+        """Copy the library to ``dest`` through SQLite's online backup API.
+
+        Safe while other processes read and write: the copy is one consistent snapshot.
+        Refuses to overwrite an existing ``dest``. Returns the path written.
+        """
+        d = Path(dest)
+        if self.path == ":memory:":
+            raise LibraryError("an in-memory library cannot be backed up to itself; use a file")
+        if d.exists():
+            raise LibraryError(f"{d} already exists; choose a new name for the backup")
+        if not d.parent.exists():
+            raise LibraryError(f"folder {d.parent} does not exist")
+        try:
+            target = sqlite3.connect(str(d))
+        except sqlite3.Error as exc:
+            raise LibraryError(f"cannot write {d}: {exc}") from None
+        try:
+            _retry_locked(
+                f"copying it to {d}", self.path, lambda: self.conn.backup(target, pages=-1)
             )
-            db.execute("CREATE UNIQUE INDEX idx_compounds_name ON compounds(name COLLATE NOCASE)")
-            db["compounds"].create_index(["inchikey"])
-            db["spectra"].create(
-                {
-                    "id": int,
-                    "compound_id": int,
-                    "prep": str,
-                    "kind": str,
-                    "resolution": float,
-                    "source_file": str,
-                    "sha256": str,
-                    "lo_cm1": float,
-                    "hi_cm1": float,
-                    "y_kind": str,
-                    "x": bytes,
-                    "y": bytes,
-                    "meta": str,
-                    "acquired_at": str,
-                    "operator": str,
-                    "notes": str,
-                    "added_at": str,
-                },
-                pk="id",
-                foreign_keys=[("compound_id", "compounds", "id")],
-                not_null={"compound_id", "kind", "added_at"},
-            )
-            db["spectra"].create_index(["compound_id"])
-            db["spectra"].create_index(["sha256"])
-            db["peaks"].create(
-                {
-                    "id": int,
-                    "spectrum_id": int,
-                    "position": float,
-                    "intensity": float,
-                    "width": float,
-                    "strength": str,
-                    "broad": int,
-                    "shoulder": int,
-                },
-                pk="id",
-                foreign_keys=[("spectrum_id", "spectra", "id")],
-                not_null={"spectrum_id", "position", "intensity"},
-            )
-            db["peaks"].create_index(["spectrum_id"])
-            db["vectors"].create(
-                {"spectrum_id": int, "encoding": str, "data": bytes},
-                pk="spectrum_id",
-                foreign_keys=[("spectrum_id", "spectra", "id")],
-            )
-            for key, value in {
-                "schema_version": str(SCHEMA_VERSION),
-                "encoding": json.dumps(encoding.to_dict(), sort_keys=True),
-                "revision": "0",
-                "created_at": now(),
-            }.items():
-                db["meta"].insert({"key": key, "value": value})
+        except sqlite3.Error as exc:
+            target.close()
+            d.unlink(missing_ok=True)
+            raise LibraryError(f"backup to {d} failed: {exc}") from None
+        target.close()
+        return str(d)
 
     # --- transactions and meta -----------------------------------------------------------------
 
@@ -240,12 +316,18 @@ class Store:
     def write(self, *, bump: bool = True) -> Iterator[None]:
         """One write transaction (BEGIN IMMEDIATE ... COMMIT), bumping the revision counter.
 
-        On any exception the transaction is rolled back: nothing half-written stays.
+        When another process holds the write lock, ``BEGIN IMMEDIATE`` waits (busy timeout)
+        and is retried with backoff for up to :data:`WRITE_RETRY_S` seconds, then a
+        LibraryError says the file stayed locked. On any exception the transaction is rolled
+        back: nothing half-written stays. Nested calls join the outer transaction.
         """
-        if self.conn.in_transaction:
+        if self._txn == "write":
             yield
             return
-        self.conn.execute("BEGIN IMMEDIATE")
+        if self._txn == "read" or self.conn.in_transaction:
+            raise RuntimeError("Store.write() inside a read transaction")
+        _retry_locked("waiting to write", self.path, lambda: self.conn.execute("BEGIN IMMEDIATE"))
+        self._txn = "write"
         try:
             yield
             if bump:
@@ -254,8 +336,32 @@ class Store:
                 )
             self.conn.execute("COMMIT")
         except BaseException:
-            self.conn.execute("ROLLBACK")
+            if self.conn.in_transaction:
+                self.conn.execute("ROLLBACK")
             raise
+        finally:
+            self._txn = None
+
+    @contextlib.contextmanager
+    def read(self) -> Iterator[None]:
+        """One read transaction: every query inside sees the same snapshot of the library.
+
+        In WAL mode a reader never waits for writers and never sees half of a write; use this
+        around reads that must agree with each other. Inside :meth:`write` it simply joins.
+        """
+        if self._txn is not None or self.conn.in_transaction:
+            yield
+            return
+        self.conn.execute("BEGIN")
+        self._txn = "read"
+        try:
+            # the snapshot starts at the first read, so take it now
+            self.conn.execute("SELECT value FROM meta WHERE key = 'revision'").fetchone()
+            yield
+        finally:
+            self._txn = None
+            if self.conn.in_transaction:
+                self.conn.execute("COMMIT")
 
     def get_meta(self, key: str, default: str | None = None) -> str | None:
         row = self.conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
@@ -370,7 +476,24 @@ class Store:
         notes: str | None = None,
         acquired_at: str | None = None,
     ) -> int:
-        """Insert one spectrum with its peaks and vector (call inside :meth:`write`)."""
+        """Insert one spectrum with its peaks and vector (call inside :meth:`write`).
+
+        Refuses a full spectrum of more than :data:`MAX_STORED_POINTS` points and a peak list of
+        more than :data:`MAX_STORED_PEAKS` bands, and a vector that does not fit the encoding.
+        """
+        if isinstance(data, Spectrum) and data.x.size > MAX_STORED_POINTS:
+            raise ValidationError(
+                f"spectrum has {data.x.size} points; a library stores at most "
+                f"{MAX_STORED_POINTS} (resample it to a coarser spacing)"
+            )
+        if len(peaks) > MAX_STORED_PEAKS:
+            raise ValidationError(
+                f"peak list has {len(peaks)} bands; a library stores at most {MAX_STORED_PEAKS} "
+                "per spectrum"
+            )
+        vec = np.asarray(vector)
+        if vec.ndim != 1 or not np.all(np.isfinite(vec)):
+            raise ValidationError("the encoded vector is not a finite one-dimensional array")
         meta = data.meta
         rec: dict[str, Any] = {
             "compound_id": compound_id,
@@ -461,18 +584,23 @@ class Store:
         return Spectrum(unpack_array(rec["x"]), unpack_array(rec["y"]), rec["y_kind"], meta)
 
     def load_vectors(self, encoding_key: str) -> VectorSet:
-        """Every vector of the given encoding, in spectrum-id order."""
-        rows = self.conn.execute(
-            "SELECT s.id, s.compound_id, s.prep, s.lo_cm1, s.hi_cm1, v.data, v.encoding "
-            "FROM spectra s JOIN vectors v ON v.spectrum_id = s.id ORDER BY s.id"
-        ).fetchall()
+        """Every vector of the given encoding, in spectrum-id order.
+
+        Rows and the encoding are read in one read transaction, so a write by another process
+        in between cannot mix two states of the library.
+        """
+        with self.read():
+            rows = self.conn.execute(
+                "SELECT s.id, s.compound_id, s.prep, s.lo_cm1, s.hi_cm1, v.data, v.encoding "
+                "FROM spectra s JOIN vectors v ON v.spectrum_id = s.id ORDER BY s.id"
+            ).fetchall()
+            enc = self.encoding
         stale = [r[0] for r in rows if r[6] != encoding_key]
         if stale:
             raise LibraryError(
                 f"{len(stale)} spectra were encoded with another encoding; run 'reflib reindex'"
             )
         n = len(rows)
-        enc = self.encoding
         matrix = np.empty((n, enc.size), dtype=np.float32)
         for i, r in enumerate(rows):
             matrix[i] = np.frombuffer(r[5], dtype="<f4")
@@ -485,10 +613,12 @@ class Store:
         )
 
     def counts(self) -> dict[str, int]:
-        return {
-            t: int(self.conn.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0])
-            for t in ("compounds", "spectra", "peaks", "vectors")
-        }
+        """Rows per table, from one snapshot."""
+        with self.read():
+            return {
+                t: int(self.conn.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0])
+                for t in ("compounds", "spectra", "peaks", "vectors")
+            }
 
 
 def _split_prep(text: str | None) -> list[str]:
@@ -500,3 +630,110 @@ def _meta_from_json(text: str | None) -> dict[str, Any]:
     fields = set(Metadata.__dataclass_fields__)
     out = {k: v for k, v in d.items() if k in fields and k != "prep"}
     return out
+
+
+# --- schema ------------------------------------------------------------------------------------
+
+
+def create_schema_v1(db: sqlite_utils.Database, encoding: Encoding) -> None:
+    """The schema-1 tables, the base every migration starts from (call inside a transaction).
+
+    Kept exactly as schema 1 was first written, so that a new library and a migrated old one
+    go through the same steps and end up alike.
+    """
+    db["meta"].create({"key": str, "value": str}, pk="key")
+    db["compounds"].create(
+        {
+            "id": int,
+            "name": str,
+            "aliases": str,
+            "smiles": str,
+            "canonical_smiles": str,
+            "formula": str,
+            "inchikey": str,
+            "role": str,
+            "tags": str,
+            "notebook": str,
+            "notes": str,
+            "added_by": str,
+            "added_at": str,
+        },
+        pk="id",
+        not_null={"name", "role", "added_at"},
+    )
+    db.execute("CREATE UNIQUE INDEX idx_compounds_name ON compounds(name COLLATE NOCASE)")
+    db["compounds"].create_index(["inchikey"])
+    db["spectra"].create(
+        {
+            "id": int,
+            "compound_id": int,
+            "prep": str,
+            "kind": str,
+            "resolution": float,
+            "source_file": str,
+            "sha256": str,
+            "lo_cm1": float,
+            "hi_cm1": float,
+            "y_kind": str,
+            "x": bytes,
+            "y": bytes,
+            "meta": str,
+            "acquired_at": str,
+            "operator": str,
+            "notes": str,
+            "added_at": str,
+        },
+        pk="id",
+        foreign_keys=[("compound_id", "compounds", "id")],
+        not_null={"compound_id", "kind", "added_at"},
+    )
+    db["spectra"].create_index(["compound_id"])
+    db["spectra"].create_index(["sha256"])
+    db["peaks"].create(
+        {
+            "id": int,
+            "spectrum_id": int,
+            "position": float,
+            "intensity": float,
+            "width": float,
+            "strength": str,
+            "broad": int,
+            "shoulder": int,
+        },
+        pk="id",
+        foreign_keys=[("spectrum_id", "spectra", "id")],
+        not_null={"spectrum_id", "position", "intensity"},
+    )
+    db["peaks"].create_index(["spectrum_id"])
+    db["vectors"].create(
+        {"spectrum_id": int, "encoding": str, "data": bytes},
+        pk="spectrum_id",
+        foreign_keys=[("spectrum_id", "spectra", "id")],
+    )
+    for key, value in {
+        "schema_version": "1",
+        "encoding": json.dumps(encoding.to_dict(), sort_keys=True),
+        "revision": "0",
+        "created_at": now(),
+    }.items():
+        db["meta"].insert({"key": key, "value": value})
+
+
+def _migrate_1_to_2(conn: sqlite3.Connection) -> None:
+    """Schema 2: a library id, and peaks indexed by (spectrum_id, position).
+
+    ``library_id`` lets an index cache or a backup tell which library it belongs to even after
+    the file is renamed or copied over; the composite index answers :meth:`Store.peaks_of`
+    (one spectrum's bands in position order) straight from the index.
+    """
+    conn.execute(
+        "INSERT OR IGNORE INTO meta(key, value) VALUES ('library_id', ?)", (uuid.uuid4().hex,)
+    )
+    conn.execute("DROP INDEX IF EXISTS idx_peaks_spectrum_id")
+    conn.execute(
+        "CREATE INDEX IF NOT EXISTS idx_peaks_spectrum_position ON peaks(spectrum_id, position)"
+    )
+
+
+#: Migration steps: MIGRATIONS[n] turns a schema n-1 library into schema n.
+MIGRATIONS = {2: _migrate_1_to_2}
