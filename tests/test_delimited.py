@@ -12,7 +12,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from reflib.errors import ReadError, ReflibError, ValidationError
-from reflib.io.delimited import parse_delimited, write_delimited
+from reflib.io.delimited import baseline_side, parse_delimited, write_delimited
 from reflib.spectrum import Spectrum
 
 
@@ -301,3 +301,29 @@ def test_mutated_exports_raise_only_reflib_errors(data):
     except ReflibError:
         return
     assert np.all(np.diff(s.x) > 0)  # whatever is accepted keeps the Spectrum convention
+
+
+def test_strongly_absorbing_transmittance_is_refused_not_read_as_absorbance():
+    """A thick sample: T between 2 % and 50 %, median 14 %. By the numbers alone it looks like
+    absorbance on a raised baseline (as two spectra of R. J. Lancashire's compound.jdx do), so
+    reflib asks instead of guessing."""
+    a = 0.85 + 0.8 * np.exp(-0.5 * ((X_DESC - 1715.0) / 10.0) ** 2)
+    a = a - 0.55 * np.exp(-0.5 * ((X_DESC - 2500.0) / 60.0) ** 2)  # a window between bands
+    with pytest.raises(ReadError, match="cannot tell"):
+        parse_delimited(_rows(X_DESC, 10.0**-a))
+    assert parse_delimited(_rows(X_DESC, 10.0**-a), y_kind="transmittance").y.max() < 0.51
+
+
+def test_transmittance_between_fraction_and_percent_is_refused():
+    y = 5.0 * 10.0 ** (-_absorbance(X_DESC))  # peaks at 5: neither a fraction nor usable %T
+    with pytest.raises(ReadError, match="fraction"):
+        parse_delimited("cm-1,transmittance\n" + _rows(X_DESC, y))
+
+
+def test_baseline_side_signs():
+    """Bands rise from the baseline in absorbance and dip from it in transmittance."""
+    a = _absorbance(X_DESC)
+    rel_a, asym_a = baseline_side(a)
+    rel_t, asym_t = baseline_side(10.0**-a)
+    assert rel_a < 0.1 and asym_a > 0.6
+    assert rel_t > 0.9 and asym_t < -0.6

@@ -23,6 +23,7 @@ Example
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 
@@ -41,8 +42,11 @@ MAX_MICROMETRE_X = 50.0
 #: Highest wavenumber accepted (cm-1); beyond it the axis is not infrared wavenumber.
 MAX_WAVENUMBER = 15000.0
 
-#: A transmittance column whose largest value exceeds this is read as percent (0..100).
-PERCENT_THRESHOLD = 1.5
+#: Transmittance whose largest value is at most FRACTION_MAX is a 0..1 fraction (real fractions
+#: overshoot 1 a little from noise at opaque band edges); from PERCENT_MIN to MAX_PERCENT it is
+#: percent; in between it is refused (a percent spectrum peaking below 10 % is unusable).
+#: The same split as the JCAMP-DX reader uses. Common practice, no source.
+FRACTION_MAX, PERCENT_MIN = 2.0, 10.0
 
 #: A file of fewer rows than this whose x steps differ by more than PEAK_TABLE_SPACING times is
 #: a table of picked peaks, not a spectrum (spectrometers sample evenly). Common practice,
@@ -55,6 +59,20 @@ MAX_PERCENT = 110.0
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
 _NONFINITE = {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}
 _SEPARATORS = {",": "comma", ";": "semicolon", "\t": "tab", None: "whitespace"}
+
+
+def _row_pattern(sep: str | None) -> re.Pattern[str]:
+    """Whole-line pattern of a plain ``x<sep>y`` row: the fast path for well-formed rows."""
+    num = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
+    if sep != ",":
+        num = r"[+-]?(?:\d+[.,]?\d*|[.,]\d+)(?:[eE][+-]?\d+)?"
+    cell = rf"[\"']?({num})[\"']?"
+    gap = r"\s+" if sep is None else rf"[ ]*{re.escape(sep)}[ ]*"
+    tail = r"" if sep is None else rf"(?:[ ]*{re.escape(sep)})?"
+    return re.compile(rf"{cell}{gap}{cell}{tail}")
+
+
+_ROW = {sep: _row_pattern(sep) for sep in _SEPARATORS}
 
 _MICROMETRE = re.compile(r"micro-?\s*met(?:er|re)s?|\bmicrons?\b|\bum\b|[µμ]m\b", re.IGNORECASE)
 _NANOMETRE = re.compile(r"\bnm\b|nano-?\s*met(?:er|re)", re.IGNORECASE)
@@ -146,7 +164,16 @@ def _read_rows(text: str, source: str | None) -> tuple[_Rows, str | None]:
     xs: list[float] = []
     ys: list[float] = []
     nums: list[int] = []
+    fast = _ROW[sep]
     for number, line in lines:
+        m = fast.fullmatch(line)
+        if m is not None:
+            x, y = float(m.group(1).replace(",", ".")), float(m.group(2).replace(",", "."))
+            if math.isfinite(x) and math.isfinite(y):
+                xs.append(x)
+                ys.append(y)
+                nums.append(number)
+                continue
         fields = _split(line, sep)
         values = [_field_value(f, sep != ",") for f in fields]
         if xs and any(not f.strip("\"' ") for f in fields):
@@ -347,25 +374,48 @@ def _y_kind_from_header(
     return None, False, label
 
 
-def _y_kind_from_data(y: np.ndarray, source: str | None) -> tuple[str, bool]:
-    """(kind, percent) judged from the values: where the baseline (the median) sits.
+def baseline_side(y: np.ndarray) -> tuple[float, float]:
+    """(position of the median in the range, tail asymmetry) of an ordinate column.
 
-    Most points of an infrared spectrum are baseline: near the top of the range for
-    transmittance (bands dip down), near the bottom for absorbance (bands rise up).
-    Thresholds: common practice, no source.
+    The first is ``(median - min) / (max - min)``: near 1 when most points sit at the top,
+    near 0 when they sit at the bottom. The second is
+    ``((q98 - q50) - (q50 - q2)) / (q98 - q2)`` from the 2nd, 50th and 98th percentiles: near
+    +1 when bands rise from the baseline as narrow upward excursions (absorbance), near -1
+    when they dip down from it (transmittance), 0 for a symmetric spread. Pure function.
+
+    >>> y = np.r_[np.zeros(90), np.linspace(0.1, 1.0, 10)]
+    >>> [round(v, 2) for v in baseline_side(y)]
+    [0.0, 1.0]
+    """
+    y = np.asarray(y, dtype=float)
+    lo, hi = float(y.min()), float(y.max())
+    q2, q50, q98 = (float(v) for v in np.quantile(y, [0.02, 0.5, 0.98]))
+    rel = (q50 - lo) / (hi - lo) if hi > lo else 0.5
+    asym = ((q98 - q50) - (q50 - q2)) / (q98 - q2) if q98 > q2 else 0.0
+    return rel, asym
+
+
+def _y_kind_from_data(y: np.ndarray, source: str | None) -> tuple[str, bool]:
+    """(kind, percent) judged from the values: which side the baseline is on.
+
+    Most points of an infrared spectrum are baseline, and bands are narrow excursions from it:
+    down from near the top for transmittance, up from near the bottom for absorbance (see
+    :func:`baseline_side`). Only a clear case is decided. The thresholds were set on the
+    published JCAMP-DX infrared files (jcamp 1.3.2 sdist), whose absorbance and transmittance
+    spectra they never confuse: strongly absorbing transmittance spectra (median 14 %T,
+    highest 49 %T) look like absorbance with a raised baseline and are refused.
     """
     lo, hi, med = float(y.min()), float(y.max()), float(np.median(y))
-    span = hi - lo
-    rel = (med - lo) / span if span > 0 else 0.5
+    rel, asym = baseline_side(y)
     hint = "give --y-kind absorbance or --y-kind transmittance (or a header naming the y column)"
-    if span > 0 and rel >= 0.65:
-        if lo >= -0.05 and hi <= PERCENT_THRESHOLD and med >= 0.4:
+    if rel >= 0.5 and asym <= -0.5:
+        if lo >= -0.05 and hi <= FRACTION_MAX and med >= 0.4:
             return "transmittance", False
-        if lo >= -5 and PERCENT_THRESHOLD < hi <= MAX_PERCENT and med >= 40:
+        if lo >= -5 and PERCENT_MIN <= hi <= MAX_PERCENT and med >= 40:
             return "transmittance", True
-    if span > 0 and rel <= 0.35 and lo >= -0.5 and hi <= 6.0:
+    if lo >= -0.5 and hi <= 6.0 and (rel <= 0.05 or (rel <= 0.2 and asym >= 0.6)):
         return "absorbance", False
-    if hi > 6.0 and not (rel >= 0.65 and hi <= MAX_PERCENT):
+    if hi > 6.0 and not (rel >= 0.5 and hi <= MAX_PERCENT):
         raise ReadError(
             f"y runs {lo:g}..{hi:g} with its median at {med:g}: neither absorbance (about 0-4) "
             "nor transmittance (0..1 or 0..100 %) with a baseline near the top; reflib reads "
@@ -374,7 +424,8 @@ def _y_kind_from_data(y: np.ndarray, source: str | None) -> tuple[str, bool]:
         )
     raise ReadError(
         f"cannot tell absorbance from transmittance: y runs {lo:g}..{hi:g} with its median at "
-        f"{med:g}, no clear baseline at the top (transmittance) or bottom (absorbance); {hint}",
+        f"{med:g}, and the bands do not clearly rise from a low baseline (absorbance) or dip "
+        f"from a high one (transmittance); {hint}",
         path=source,
     )
 
@@ -382,12 +433,15 @@ def _y_kind_from_data(y: np.ndarray, source: str | None) -> tuple[str, bool]:
 def _transmittance_scale(y: np.ndarray, source: str | None) -> bool:
     """Whether transmittance values are percent (by range; common practice, no source)."""
     hi = float(y.max())
-    if hi > MAX_PERCENT:
-        raise ReadError(
-            f"transmittance values reach {hi:g}; expected a 0..1 fraction or 0..100 percent",
-            path=source,
-        )
-    return hi > PERCENT_THRESHOLD
+    if hi <= FRACTION_MAX:
+        return False
+    if PERCENT_MIN <= hi <= MAX_PERCENT:
+        return True
+    raise ReadError(
+        f"transmittance values reach {hi:g}; expected a 0..1 fraction (at most "
+        f"{FRACTION_MAX:g}) or percent ({PERCENT_MIN:g}..{MAX_PERCENT:g} at the highest point)",
+        path=source,
+    )
 
 
 def parse_delimited(text: str, *, source: str | None = None, y_kind: str | None = None) -> Spectrum:
@@ -402,7 +456,7 @@ def parse_delimited(text: str, *, source: str | None = None, y_kind: str | None 
         File name used in error messages.
     y_kind:
         ``'absorbance'`` or ``'transmittance'`` to override the detection. Transmittance given
-        this way is still read as percent when its values exceed 1.5.
+        this way is still read as percent when its largest value is 10..110.
 
     Returns
     -------
@@ -498,8 +552,8 @@ def write_delimited(spectrum: Spectrum, *, sep: str = ",") -> str:
     Parameters
     ----------
     spectrum:
-        Absorbance, or transmittance as a 0..1 fraction (refused when it exceeds 1.5, since it
-        would read back as percent).
+        Absorbance, or transmittance as a 0..1 fraction (refused when it exceeds 2, since it
+        would not read back as a fraction).
     sep:
         ``','`` (default), ``';'``, ``'\\t'`` or ``' '``.
 
@@ -513,7 +567,7 @@ def write_delimited(spectrum: Spectrum, *, sep: str = ",") -> str:
     """
     if sep not in (",", ";", "\t", " "):
         raise ValidationError(f"separator must be ',', ';', tab or space, got {sep!r}")
-    if spectrum.y_kind == "transmittance" and float(spectrum.y.max()) > PERCENT_THRESHOLD:
+    if spectrum.y_kind == "transmittance" and float(spectrum.y.max()) > FRACTION_MAX:
         raise ValidationError(
             f"transmittance reaches {float(spectrum.y.max()):g}; expected a 0..1 fraction "
             "(divide percent by 100 first)"
@@ -524,4 +578,4 @@ def write_delimited(spectrum: Spectrum, *, sep: str = ",") -> str:
     return "\n".join(lines) + "\n"
 
 
-__all__ = ["parse_delimited", "write_delimited", "MIN_POINTS"]
+__all__ = ["parse_delimited", "write_delimited", "baseline_side", "MIN_POINTS"]
