@@ -10,7 +10,8 @@ bands sit higher (no intermolecular interaction: carbonyls by some 20 cm-1, amid
 free O-H more), and a picked band may be a P or R branch maximum rather than the band centre. With
 ``phase="gas"`` each range is therefore moved up by the row's ``gas_shift_cm1`` (from memory, 0
 for bands that barely move, such as C-H stretches) and widened by :data:`GAS_BRANCH_CM1` on both
-sides.
+sides; bands of hydrogen-bonded forms (``condensed_only`` rows: H-bonded O-H, acid dimers) are
+not considered in the gas phase.
 """
 
 from __future__ import annotations
@@ -65,6 +66,7 @@ class GroupFrequency:
     lo_cm1: float
     hi_cm1: float
     gas_shift_cm1: float
+    condensed_only: bool
     strength: str
     shape: str
     expect: str
@@ -81,6 +83,10 @@ class GroupFrequency:
     @property
     def centre_cm1(self) -> float:
         return 0.5 * (self.lo_cm1 + self.hi_cm1)
+
+    def in_phase(self, phase: str) -> bool:
+        """False for bands of hydrogen-bonded forms (``condensed_only``) in the gas phase."""
+        return not (phase == "gas" and self.condensed_only)
 
     def range_for(self, phase: str = "condensed") -> tuple[float, float]:
         """The range (lo, hi) in cm-1 used for ``phase`` (see the module notes on gas phase)."""
@@ -174,6 +180,7 @@ def parse_table(text: str, name: str = TABLE_FILE) -> tuple[GroupFrequency, ...]
                 lo_cm1=lo,
                 hi_cm1=hi,
                 gas_shift_cm1=shift,
+                condensed_only=raw["condensed_only"].strip().lower() == "yes",
                 strength=raw["strength"],
                 shape=raw["shape"],
                 expect=raw["expect"],
@@ -246,6 +253,7 @@ def candidates(
     phase: str = "condensed",
     prep: Sequence[str] = (),
     groups: Iterable[str] | None = None,
+    support: Sequence[float] | None = None,
     min_score: float = 0.1,
 ) -> list[Assignment]:
     """Rank the table's groups that could explain a band, most likely first.
@@ -268,6 +276,11 @@ def candidates(
         are then as likely as a group of the compound.
     groups:
         Only consider rows of these functional groups (and no artefacts) when given.
+    support:
+        Positions (cm-1) of the other bands of the same spectrum. When given, a group whose
+        other expected bands are present gains over one whose other expected bands are missing
+        (see :func:`corroboration`): an ester C=O with a strong C-O band beside it reads as an
+        ester before a ketone.
     min_score:
         Drop candidates scoring below this.
 
@@ -289,9 +302,12 @@ def candidates(
         broad = width > BROAD_WIDTH_CM1
     wanted = None if groups is None else set(groups)
     prep_set = set(prep)
+    seen = None if support is None else _tokens_seen(tuple(float(x) for x in support), phase)
     best: dict[str, Assignment] = {}
     for row in table():
         if wanted is not None and (row.kind == "artefact" or not wanted.intersection(row.groups)):
+            continue
+        if not row.in_phase(phase):
             continue
         lo, hi = row.range_for(phase)
         score = _position_score(position_cm1, lo, hi)
@@ -301,6 +317,8 @@ def candidates(
         if row.kind == "artefact" and row.prep in prep_set:
             prior = 1.0
         score *= prior * _strength_factor(strength, row.strength) * _shape_factor(broad, row.shape)
+        if seen is not None:
+            score *= corroboration(row, seen)
         if score < min_score:
             continue
         current = best.get(row.label)
@@ -310,7 +328,49 @@ def candidates(
     return ranked[:top]
 
 
-def _peak_candidates(peak: Peak, top: int, phase: str, prep: Sequence[str]) -> list[Assignment]:
+#: Weight of corroboration: a band whose group has all its other expected bands present keeps its
+#: score; one whose group has none of them loses this fraction; a group with no other expected
+#: band loses half of it.
+CORROBORATION_WEIGHT = 0.15
+
+
+@lru_cache(maxsize=64)
+def _tokens_seen(positions: tuple[float, ...], phase: str) -> frozenset[tuple[str, str]]:
+    """(group, expect token) pairs with at least one band of ``positions`` in range."""
+    out = set()
+    for row in table():
+        if not row.expect or not row.in_phase(phase):
+            continue
+        lo, hi = row.range_for(phase)
+        if any(lo - position_tolerance(x) <= x <= hi + position_tolerance(x) for x in positions):
+            out.update((g, row.expect) for g in row.groups)
+    return frozenset(out)
+
+
+def corroboration(row: GroupFrequency, seen: frozenset[tuple[str, str]]) -> float:
+    """Factor (0.85..1) by which the other expected bands of ``row``'s group support it.
+
+    ``seen`` holds the (group, token) pairs present in the spectrum. Artefact rows and groups
+    with no other expected band get the neutral middle value.
+    """
+    others = {
+        (g, r.expect)
+        for r in table()
+        if r.expect and r.kind != "artefact"
+        for g in r.groups
+        if g == row.group and r.expect != row.expect
+    }
+    fraction = 0.5 if row.kind == "artefact" or not others else len(others & seen) / len(others)
+    return 1.0 - CORROBORATION_WEIGHT * (1.0 - fraction)
+
+
+def _peak_candidates(
+    peak: Peak,
+    top: int,
+    phase: str,
+    prep: Sequence[str],
+    support: Sequence[float] | None = None,
+) -> list[Assignment]:
     width = peak.width if math.isfinite(peak.width) else None
     # A peak list always carries a broad flag; a False flag with a known width is left to the
     # width, an unknown width keeps the flag.
@@ -323,6 +383,7 @@ def _peak_candidates(peak: Peak, top: int, phase: str, prep: Sequence[str]) -> l
         top=top,
         phase=phase,
         prep=prep,
+        support=support,
     )
 
 
@@ -343,12 +404,15 @@ def assign(
 ) -> list[list[Assignment]]:
     """Candidate groups for every band of ``peaks`` (in the list's ascending order).
 
+    The other bands of the list corroborate each reading (``support`` of :func:`candidates`).
+
     ``phase`` defaults to what the metadata says (:func:`phase_of`); ``prep`` to the metadata's
     preparation tokens.
     """
     phase = phase_of(peaks) if phase is None else phase
     prep = list(peaks.meta.prep) if prep is None else list(prep)
-    return [_peak_candidates(p, top, phase, prep) for p in peaks]
+    support = [float(x) for x in peaks.positions]
+    return [_peak_candidates(p, top, phase, prep, support) for p in peaks]
 
 
 def describe(

@@ -37,6 +37,9 @@ GAS_LINE_FWHM_CM1 = 3.0
 #: Perpendicular bands of symmetric tops carry K sub-bands spaced about 2(A(1 - zeta) - B); for a
 #: methyl group (A near 5 cm-1) they spread a band over some +-60 cm-1 (from memory).
 GAS_ROTATION_SPREAD_CM1 = 70.0
+#: An expected band the table calls strong counts only from this relative intensity up (the
+#: lower edge of the strength word "w"): a very weak band there (an overtone) does not stand in.
+STRONG_ROW_MIN = STRENGTH_WORDS["w"][0]
 #: Wavenumber range (cm-1) assumed covered by a spectrum when the caller does not say.
 DEFAULT_COVERED_CM1 = (650.0, 4000.0)
 
@@ -243,8 +246,10 @@ def check_consistency(
     1. every group the structure has should show its expected bands (rows with an ``expect``
        token; groups whose bands may legitimately be weak or absent, such as a symmetric
        internal alkyne or the far-range C-Cl stretch, have none): a band of the peak list within
-       the range, widened by :func:`reflib.bands.position_tolerance`, counts. The peak list holds
-       only bands above noise, so "nothing in range" means nothing above noise.
+       the range, widened by :func:`reflib.bands.position_tolerance`, counts (for a band the
+       table calls strong, only from :data:`STRONG_ROW_MIN` up). The peak list holds only bands
+       above noise, so "nothing in range" means nothing above noise. In the gas phase the bands
+       of hydrogen-bonded forms are not expected.
     2. every strong band (strength ``strong`` or stronger) above ``explain_above`` cm-1 should
        fall in a range of one of the structure's groups (ranges of bands the table calls weak,
        such as aromatic overtones, do not count). Bands of the air (CO2, water vapour)
@@ -300,12 +305,13 @@ def check_consistency(
     groups = functional_groups(structure.smiles)
     report = ConsistencyReport(smiles=structure.canonical_smiles, groups=groups)
     positions = [float(p) for p in peaks.positions]
+    intensities = [float(v) for v in peaks.intensities]
 
     # 1. expected bands
     for group in groups:
         by_token: dict[str, list[bands.GroupFrequency]] = {}
         for row in bands.rows_for_groups([group]):
-            if row.expect and row.kind != "artefact":
+            if row.expect and row.kind != "artefact" and row.in_phase(phase):
                 by_token.setdefault(row.expect, []).append(row)
         for token, rows in by_token.items():
             judged = []
@@ -321,15 +327,18 @@ def check_consistency(
                     "or masked)"
                 )
                 continue
-            seen = [
-                x
-                for x in positions
+            in_range = [
+                (x, inten)
+                for x, inten in zip(positions, intensities)
                 if not _inside(x, masked_r)
                 and any(
                     lo - bands.position_tolerance(x) <= x <= hi + bands.position_tolerance(x)
                     for _r, lo, hi in judged
                 )
             ]
+            # a band the table calls strong must not be merely very weak
+            need = max((STRONG_ROW_MIN if r.strength == "s" else 0.0) for r, _lo, _hi in judged)
+            seen = [x for x, inten in in_range if inten >= need]
             lo_all = min(lo for _r, lo, _h in judged)
             hi_all = max(hi for _r, _l, hi in judged)
             report.checks.append(
@@ -341,15 +350,24 @@ def check_consistency(
                 }
             )
             if not seen:
+                found = (
+                    "only very weak bands ("
+                    + ", ".join(f"{x:.0f}" for x, _i in in_range)
+                    + " cm-1)"
+                    if in_range
+                    else "nothing above noise"
+                )
                 report.warnings.append(
                     f"{group_label(group)} expected near {_fmt_range(lo_all, hi_all)} cm-1 "
-                    f"({labels}): nothing above noise"
+                    f"({labels}): {found}"
                 )
 
     # 2. strong bands left unexplained
     threshold = STRENGTH_WORDS[strong][0]
     rows = bands.rows_for_groups(groups)
     prep = set(peaks.meta.prep)
+    unexplained: list[tuple[float, str]] = []
+    intensity_at = dict(zip(positions, intensities))
     for p in peaks.descending():
         if p.intensity < threshold or p.position < explain_above or _inside(p.position, masked_r):
             continue
@@ -389,8 +407,22 @@ def check_consistency(
             p.position, strength=p.strength, broad=p.broad, phase=phase, top=2
         )
         hint = "; ".join(a.short for a in others)
+        unexplained.append((p.position, hint))
+    # In the gas phase the P and R branch maxima of one band are two picked bands: one warning.
+    merge_within = 2.0 * bands.GAS_BRANCH_CM1 if phase == "gas" else 0.0
+    groups_of_bands: list[list[tuple[float, str]]] = []
+    for pos, hint in unexplained:  # high to low wavenumber
+        if groups_of_bands and groups_of_bands[-1][-1][0] - pos <= merge_within:
+            groups_of_bands[-1].append((pos, hint))
+        else:
+            groups_of_bands.append([(pos, hint)])
+    for members in groups_of_bands:
+        pos, hint = max(members, key=lambda m: intensity_at[m[0]])
+        also = [f"{m[0]:.0f}" for m in members if m[0] != pos]
         report.warnings.append(
-            f"strong band at {p.position:.0f} cm-1: no group in this structure explains it"
+            f"strong band at {pos:.0f} cm-1"
+            + (f" (with {', '.join(also)})" if also else "")
+            + ": no group in this structure explains it"
             + (f" (could be: {hint})" if hint else "")
         )
     return report

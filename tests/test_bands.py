@@ -57,14 +57,14 @@ def test_derived_isotope_rows_follow_from_their_parent_rows() -> None:
 def test_parse_table_names_the_line_of_a_bad_row() -> None:
     header = bands.resources.files("reflib").joinpath("data", bands.TABLE_FILE).read_text()
     header = header.splitlines()[0]
-    bad = header + "\nx,g,band,lab,1700,1750,0,huge,sharp,,,,,from memory\n"
+    bad = header + "\nx,g,band,lab,1700,1750,0,,huge,sharp,,,,,from memory\n"
     with pytest.raises(ValidationError) as err:
         bands.parse_table(bad)
     assert err.value.line == 2 and "strength" in str(err.value)
-    swapped = header + "\nx,g,band,lab,1750,1700,0,s,sharp,,,,,from memory\n"
+    swapped = header + "\nx,g,band,lab,1750,1700,0,,s,sharp,,,,,from memory\n"
     with pytest.raises(ValidationError):
         bands.parse_table(swapped)
-    nosource = header + "\nx,g,band,lab,1700,1750,0,s,sharp,,,,,\n"
+    nosource = header + "\nx,g,band,lab,1700,1750,0,,s,sharp,,,,,\n"
     with pytest.raises(ValidationError, match="source"):
         bands.parse_table(nosource)
 
@@ -181,3 +181,20 @@ def test_bad_input_is_a_validation_error(kwargs) -> None:
     pos = kwargs.pop("position_cm1")
     with pytest.raises(ValidationError):
         bands.candidates(pos, **kwargs)
+
+
+def test_other_bands_of_the_spectrum_corroborate_a_reading() -> None:
+    """An ester shows a strong C-O band near 1240 beside its C=O (from memory): with that band
+    in the same spectrum, a 1745 band reads as an ester before a cyclopentanone."""
+    alone = bands.candidates(1745.0, strength="vs", support=[1745.0])
+    with_co = bands.candidates(1745.0, strength="vs", support=[1745.0, 1240.0])
+    ester = {a.id: a.score for a in with_co}["ester_co"]
+    assert ester > {a.id: a.score for a in alone}.get("ester_co", 0.0)
+    assert with_co[0].id == "ester_co"
+
+
+def test_hydrogen_bonded_forms_are_not_read_in_the_gas_phase() -> None:
+    """Gas-phase alcohols show free O-H only (common practice, no source)."""
+    condensed = [a.id for a in bands.candidates(3350.0, broad=True, top=10)]
+    gas = [a.id for a in bands.candidates(3350.0, broad=True, top=10, phase="gas")]
+    assert "alcohol_oh_hbond" in condensed and "alcohol_oh_hbond" not in gas

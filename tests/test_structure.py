@@ -179,3 +179,26 @@ def test_bad_options_are_validation_errors(kwargs) -> None:
 def test_invalid_smiles_in_the_check_is_a_validation_error() -> None:
     with pytest.raises(ValidationError, match="SMILES"):
         check_consistency(BENZONITRILE, "N#Cc1cccc")
+
+
+def test_an_overtone_does_not_stand_in_for_a_strong_expected_band() -> None:
+    """Acetone-like list with a very weak C=O overtone near 3430 (from memory): read as an
+    alcohol, the O-H is reported as only very weak."""
+    pl = PeakList([1217.0, 1365.0, 1715.0, 2970.0, 3430.0], [0.7, 0.6, 1.0, 0.3, 0.03])
+    report = check_consistency(pl, "CC(C)O")
+    assert any("only very weak bands (3430 cm-1)" in w for w in report.warnings)
+
+
+def test_gas_phase_branches_of_one_band_give_one_warning() -> None:
+    """P and R branch maxima about 20 cm-1 apart (gas) are one unexplained band."""
+    pl = PeakList(
+        [1033.0, 1729.0, 1739.0, 2970.0, 3680.0],
+        [0.9, 0.8, 1.0, 0.4, 0.2],
+        meta=Metadata(state="gas"),
+    )
+    report = check_consistency(pl, "CO")
+    unexplained = [w for w in report.warnings if w.startswith("strong band")]
+    assert len(unexplained) == 1
+    assert unexplained[0].startswith(
+        "strong band at 1739 cm-1 (with 1729): no group in this structure explains it"
+    )
