@@ -106,9 +106,7 @@ def read_spectrum(path: str | Path, *, y_kind: str | None = None) -> Readable:
     """The one infrared spectrum or peak list in a file.
 
     A file holding several infrared blocks is refused (use :func:`read_all`): reflib does not
-    guess which one was meant.
-
-    >>> # read_spectrum("crude-42.jdx").x[:3]   # doctest: +SKIP
+    guess which one was meant. Example: ``read_spectrum("crude-42.jdx").range_cm1``.
     """
     objs = read_all(path, y_kind=y_kind)
     if len(objs) != 1:
