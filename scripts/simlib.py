@@ -649,7 +649,7 @@ def _construct(args: tuple, seed: int) -> SimCompound:
     return _chain_compound(fg, n, seed)
 
 
-def _split(seed: int, held_share: float = 0.12) -> tuple[list[tuple], list[tuple]]:
+def _split(seed: int, held_share: float = 0.15) -> tuple[list[tuple], list[tuple]]:
     """Seeded split of the universe into library candidates and held-out analogs."""
     items = universe(seed)
     rng = rng_for(seed, "split")
