@@ -243,3 +243,14 @@ def test_mutated_lists_raise_only_reflib_errors(data):
         parse_peak_text("".join(chars))
     except ReflibError:
         pass
+
+
+def test_band_assignments_are_refused_with_a_hint():
+    for text in ("1715 (C=O)", "3400-3200 (br, O-H)"):
+        with pytest.raises(ReadError, match="assignments"):
+            parse_peak_text(text)
+
+
+def test_source_names_the_file_in_meta_and_the_full_path_in_errors():
+    pl = parse_peak_text("1715 (s)", source="notes/crude 42.txt")
+    assert pl.meta.source_file == "crude 42.txt"

@@ -26,6 +26,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -490,7 +491,7 @@ def parse_delimited(text: str, *, source: str | None = None, y_kind: str | None 
     header_text = "\n".join(rows.header)
     meta = Metadata()
     if source is not None:
-        meta.source_file = source
+        meta.source_file = Path(source).name
     if rows.header:
         meta.extra["header"] = header_text[:2000]
     meta.extra["separator"] = _SEPARATORS[sep]

@@ -31,6 +31,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -61,6 +62,7 @@ _STRENGTHS = {
 _VERY = {"strong": "vs", "weak": "vw", "broad": "br"}
 _BROAD = {"br", "b", "broad"}
 _SHOULDER = {"sh", "shoulder"}
+_NO_ASSIGNMENTS = "band assignments such as (C=O) or (O-H) are not read: remove them"
 _ALLOWED = (
     "vs, s, m, w, vw, br, sh (or very strong, strong, medium, weak, very weak, broad, shoulder)"
 )
@@ -267,7 +269,8 @@ class _Parser:
                         pass
                     else:
                         raise self.error(
-                            f"unexpected {inner.text!r} in parentheses after band {band_text}",
+                            f"unexpected {inner.text!r} in parentheses after band {band_text} "
+                            f"({_NO_ASSIGNMENTS})",
                             inner.start,
                         )
                     self.i += 1
@@ -320,7 +323,8 @@ class _Parser:
                 found = "sh"
             else:
                 raise self.error(
-                    f"unknown word {words[k].text!r} after band {tok.text}; allowed: {_ALLOWED}",
+                    f"unknown word {words[k].text!r} after band {tok.text}; allowed: {_ALLOWED}; "
+                    f"{_NO_ASSIGNMENTS}",
                     words[k].start,
                 )
             if found == "br":
@@ -415,7 +419,7 @@ def parse_peak_text(text: str, *, source: str | None = None) -> PeakList:
         seen[b.position] = b.start
     meta = Metadata(prep=prep)
     if source is not None:
-        meta.source_file = source
+        meta.source_file = Path(source).name
     given = sum(b.strength is not None for b in bands)
     if given == 0:
         meta.extra["intensities"] = "not given"
