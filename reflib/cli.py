@@ -376,9 +376,13 @@ def search(
 
 
 @app.command()
-def demo() -> None:
-    """Walk the three jobs on the bundled, invented demo data (coming with the library issue)."""
-    typer.echo("reflib demo: coming. The library and search land next; nothing is run yet.")
+def demo(
+    data: Path = typer.Option(None, "--data", help="The demo_data folder (default: ./demo_data)."),
+) -> None:
+    """Walk the three jobs on the bundled, invented demo data in a temporary library."""
+    from reflib.demo import run_demo
+
+    run_demo(typer.echo, data, print_search=_print_search)
 
 
 def _register_plugins() -> None:
