@@ -425,8 +425,21 @@ def describe(
     >>> describe(Peak(1715.0, 1.0, 12.0, "vs", False, False))
     'ketone C=O? carbamate C=O?'
     """
-    found = _peak_candidates(peak, top, phase, prep)
+    return _short_text(_peak_candidates(peak, top, phase, prep))
+
+
+def _short_text(found: list[Assignment]) -> str:
     if not found:
         return ""
     best = found[0].score
     return " ".join(f"{a.short}?" for a in found if a.score >= 0.5 * best)
+
+
+def describe_all(peaks: PeakList, *, top: int = 2) -> list[str]:
+    """:func:`describe` for every band of ``peaks`` (ascending order), with the phase and
+    preparation of the list's metadata and the other bands as corroboration (:func:`assign`).
+
+    >>> describe_all(PeakList([1240.0, 1745.0], [0.9, 1.0]))[1]
+    'ester C=O? cyclopentanone C=O?'
+    """
+    return [_short_text(found) for found in assign(peaks, top=top)]

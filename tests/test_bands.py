@@ -198,3 +198,12 @@ def test_hydrogen_bonded_forms_are_not_read_in_the_gas_phase() -> None:
     condensed = [a.id for a in bands.candidates(3350.0, broad=True, top=10)]
     gas = [a.id for a in bands.candidates(3350.0, broad=True, top=10, phase="gas")]
     assert "alcohol_oh_hbond" in condensed and "alcohol_oh_hbond" not in gas
+
+
+def test_describe_all_uses_the_metadata_phase() -> None:
+    """Acetone vapour's carbonyl near 1738 (from memory) reads as a ketone only in the gas."""
+    gas = PeakList([1217.0, 1738.0], [0.7, 1.0], meta=Metadata(state="gas"))
+    liquid = PeakList([1217.0, 1738.0], [0.7, 1.0])
+    assert "ketone C=O?" in bands.describe_all(gas)[1]
+    assert "ketone C=O?" not in bands.describe_all(liquid)[1]
+    assert len(bands.describe_all(gas)) == len(gas)
