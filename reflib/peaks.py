@@ -53,6 +53,7 @@ constructed bands; see the tests):
 from __future__ import annotations
 
 import copy
+import warnings
 from collections.abc import Sequence
 
 import numpy as np
@@ -463,11 +464,11 @@ def pick_peaks(
         keep[first] = True
         frac[first] = 0.5 * (start + stop - 1)
         saturated[first] = True
+    keep &= heights > 0  # a maximum below the baseline is not a band
     idx, frac, heights, saturated = idx[keep], frac[keep], heights[keep], saturated[keep]
     if idx.size == 0:
         return empty
 
-    heights = np.maximum(heights, 0.0)
     fwhm = _fwhm(ys, x, idx, heights, frac)
     positions = np.interp(frac, np.arange(x.size, dtype=float), x)
     smooth_fwhm = sigma_pts * step * 2.0 * np.sqrt(2.0 * np.log(2.0))
@@ -523,9 +524,11 @@ def _fwhm(
     lb[order], rb[order] = valleys[:-1], valleys[1:]
     lb = np.minimum(lb, idx)
     rb = np.maximum(rb, idx)
-    _, half, l_ips, r_ips = signal.peak_widths(
-        ys, idx, rel_height=0.5, prominence_data=(heights, lb, rb)
-    )
+    with warnings.catch_warnings():  # zero widths become NaN below
+        warnings.filterwarnings("ignore", message="some peaks have a width of 0")
+        _, half, l_ips, r_ips = signal.peak_widths(
+            ys, idx, rel_height=0.5, prominence_data=(heights, lb, rb)
+        )
     grid = np.arange(n, dtype=float)
     centre = np.interp(frac, grid, x)
     left_half = centre - np.interp(l_ips, grid, x)
