@@ -19,11 +19,12 @@ than any later step (see the design notes). The steps, each a pure function of a
    height above the baseline for the FWHM (cm-1), the baseline-corrected height for the relative
    intensity, :func:`~reflib.spectrum.strength_word` for the word, a width rule for ``broad``.
 
-Saturated bands (transmittance at or below ``saturation_t``, or an absorbance trace clipped to a
-run of identical values at its maximum) become one band at the centre of the flat top; their
-positions are listed in ``meta.extra['saturated']``. Shoulders are not detected: every
-``shoulder`` flag is False (a second-derivative shoulder finder was not reliable enough on noisy
-data to be worth a wrong flag).
+Saturated bands become one band at the centre of the top, and their positions are listed in
+``meta.extra['saturated']``: transmittance at or below ``saturation_t`` (absorbance at or above
+2 by default), an absorbance trace clipped to a run of identical values at its maximum, or a
+strong noisy plateau at the maximum (see :func:`saturated_runs` and :func:`flat_tops`).
+Shoulders are not detected: every ``shoulder`` flag is False (not attempted; a wrong shoulder
+flag would mislead more than a missing one).
 
 Chosen defaults and why (measured on the gas-phase spectra of the jcamp 1.3.2 distribution and on
 constructed bands; see the tests):
@@ -71,6 +72,10 @@ UNIFORM_TOLERANCE = 0.01
 
 #: The resampled grid never gets more than this many times the input's points.
 MAX_RESAMPLE_FACTOR = 4
+
+#: An absorbance trace with more than this fraction of its points above the saturation level is
+#: taken to be in scaled units, and only the repeated-maximum rule marks saturation.
+MAX_SATURATED_FRACTION = 0.25
 
 _MAD_TO_SIGMA = 1.482602218505602  # 1 / Phi^-1(3/4): MAD of a normal sample -> its sigma
 
@@ -269,6 +274,20 @@ def _runs(mask: np.ndarray) -> np.ndarray:
     return edges.reshape(-1, 2)
 
 
+def _close_gaps(mask: np.ndarray, gap_points: int) -> np.ndarray:
+    """``mask`` with interior runs of at most ``gap_points`` False values set True."""
+    mask = np.asarray(mask, dtype=bool).copy()
+    if gap_points > 0 and mask.any():
+        gaps = _runs(~mask)
+        inner = (gaps[:, 0] > 0) & (gaps[:, 1] < mask.size)
+        gaps = gaps[inner & (gaps[:, 1] - gaps[:, 0] <= gap_points)]
+        delta = np.zeros(mask.size + 1, dtype=np.int64)
+        np.add.at(delta, gaps[:, 0], 1)
+        np.add.at(delta, gaps[:, 1], -1)
+        mask |= np.cumsum(delta[:-1]) > 0
+    return mask
+
+
 def saturated_runs(
     a: np.ndarray,
     *,
@@ -279,31 +298,85 @@ def saturated_runs(
 ) -> np.ndarray:
     """Flat, saturated tops of an absorbance trace as (start, stop) index pairs, shape (k, 2).
 
-    For a trace converted from transmittance, a point is saturated when its transmittance is at
-    or below ``saturation_t`` (absorbance at or above ``-log10(saturation_t)``). For a trace given
-    as absorbance, saturated points are those equal (within 1e-9 relative) to the trace's maximum:
-    an instrument or program that clips writes the same value again and again. Runs closer than
+    A point is saturated when its transmittance is at or below ``saturation_t`` (absorbance at
+    or above ``-log10(saturation_t)``, 2 for the default 1 %). For a trace given as absorbance,
+    points equal (within 1e-9 relative) to the trace's maximum are saturated too (an instrument
+    or program that clips writes the same value again and again), and the level rule is dropped
+    when more than :data:`MAX_SATURATED_FRACTION` of the trace lies above it (the values are
+    then in scaled units, not decadic absorbance). Runs closer than
     ``gap_points`` are merged (noise pokes through the floor of a flat top); runs shorter than
     ``min_points`` are ordinary peaks.
     """
     a = np.asarray(a, dtype=float)
     if a.size == 0:
         return np.zeros((0, 2), dtype=int)
-    if from_transmittance:
-        level = -np.log10(max(saturation_t, MIN_TRANSMITTANCE))
-        mask = a >= level - 1e-12
-    else:
+    level = -np.log10(max(saturation_t, MIN_TRANSMITTANCE))
+    mask = a >= level - 1e-12
+    if not from_transmittance:
+        if mask.mean() > MAX_SATURATED_FRACTION:
+            mask[:] = False  # mostly above the level: scaled units, not decadic absorbance
         top = float(np.max(a))
-        mask = a >= top - 1e-9 * max(abs(top), 1e-300)
-    if gap_points > 0 and mask.any():
-        runs = _runs(~mask)
-        for start, stop in runs:
-            if start > 0 and stop < a.size and stop - start <= gap_points:
-                mask[start:stop] = True
-    runs = _runs(mask)
+        mask |= a >= top - 1e-9 * max(abs(top), 1e-300)
+    runs = _runs(_close_gaps(mask, gap_points))
     if runs.size:
         runs = runs[(runs[:, 1] - runs[:, 0]) >= min_points]
     return runs
+
+
+def flat_tops(
+    a: np.ndarray,
+    corrected: np.ndarray,
+    tolerance: float,
+    *,
+    min_points: int = 3,
+    min_height: float = 50.0,
+    min_fraction: float = 0.4,
+    gap_points: int = 2,
+) -> np.ndarray:
+    """Noisy flat tops at the maximum of an absorbance trace, as (start, stop) index pairs.
+
+    An instrument that saturates writes a plateau of noise near its highest absorbance, not one
+    repeated value. A run of points of ``a`` within ``tolerance`` (absorbance, about 4 noise
+    standard deviations) of the trace's maximum is such a plateau when the band under it is
+    strong (height above the baseline, from ``corrected``, at least ``min_height`` tolerances)
+    and the run is at least ``min_fraction`` of the band's FWHM wide: a rounded top, Gaussian or
+    Lorentzian, is then under 0.17 of its FWHM within the tolerance, while a band clipped at
+    half of its true height or lower has a flat top of 0.7 of its FWHM or more. Runs split by at
+    most ``gap_points`` points of noise are one run.
+    """
+    a = np.asarray(a, dtype=float)
+    corrected = np.asarray(corrected, dtype=float)
+    if a.size < 3 or not tolerance > 0:
+        return np.zeros((0, 2), dtype=int)
+    runs = _runs(_close_gaps(a >= float(np.max(a)) - tolerance, gap_points))
+    runs = runs[(runs[:, 1] - runs[:, 0]) >= min_points]
+    out = []
+    for start, stop in runs:  # one step per plateau
+        height = float(np.max(corrected[start:stop]))
+        if height < min_height * tolerance:
+            continue
+        below = np.flatnonzero(corrected < 0.5 * height)
+        k = int(np.searchsorted(below, start))
+        left = below[k - 1] if k > 0 else 0
+        right = below[k] if k < below.size else a.size - 1
+        if (stop - start) >= min_fraction * max(right - left, 1):
+            out.append((start, stop))
+    return np.array(out, dtype=int).reshape(-1, 2)
+
+
+def _merge_runs(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Union of two sets of (start, stop) runs, overlapping runs merged."""
+    both = np.concatenate([a.reshape(-1, 2), b.reshape(-1, 2)])
+    if both.size == 0:
+        return both.astype(int)
+    both = both[np.argsort(both[:, 0])]
+    merged = [list(both[0])]
+    for start, stop in both[1:]:
+        if start <= merged[-1][1]:
+            merged[-1][1] = max(merged[-1][1], stop)
+        else:
+            merged.append([start, stop])
+    return np.array(merged, dtype=int)
 
 
 def _check_options(**opts: float) -> None:
@@ -425,6 +498,9 @@ def pick_peaks(
     noise = noise * gain
 
     runs = saturated_runs(a, from_transmittance=from_t, saturation_t=saturation_t)
+    if not from_t:
+        smooth_a = ndimage.gaussian_filter1d(a, sigma_pts) if sigma_pts > 0 else a
+        runs = _merge_runs(runs, flat_tops(smooth_a, ys, 4.0 * float(noise.min())))
     margin = max(1, int(np.ceil(3 * sigma_pts)))
     for start, stop in runs:
         lo, hi = max(0, start - margin), min(x.size, stop + margin)
@@ -557,6 +633,7 @@ __all__: Sequence[str] = [
     "estimate_noise",
     "is_uniform",
     "pick_peaks",
+    "flat_tops",
     "saturated_runs",
     "uniform_grid",
 ]

@@ -217,6 +217,42 @@ def test_clipped_absorbance_band_is_one_peak_at_the_centre() -> None:
     assert pl.meta.extra["saturated"].startswith("2100")
 
 
+def test_saturated_band_exported_as_absorbance_is_one_peak() -> None:
+    """The same saturated band written as absorbance (the instrument's -log10 of a transmittance
+    near zero: a plateau of noise between about A = 2.5 and 4) is one band at the centre too,
+    like the transmittance it came from. Beer-Lambert; the plateau shape is how a saturated
+    band looks in any spectrometer's absorbance export (common practice, no source)."""
+    x = grid(1.0)
+    a = gaussian(x, 1715.0, 60.0, 8.0) + gaussian(x, 1200.0, 20.0, 0.5)
+    rng = np.random.default_rng(8)
+    t = np.clip(absorbance_to_transmittance(a) + rng.normal(0.0, 2e-3, x.size), 1e-4, None)
+    pl = pick_peaks(Spectrum(x, -np.log10(t)))
+    assert np.sum(np.abs(pl.positions - 1715.0) < 60.0) == 1
+    assert float(pl.meta.extra["saturated"]) == pytest.approx(1715.0, abs=2.0)
+
+
+def test_noisy_plateau_in_scaled_units_is_one_peak() -> None:
+    """A strong band clipped at half its height with noise added, in arbitrary units (values
+    near 1e-3, so the absorbance-2 rule cannot apply), is still one band at the centre of its
+    flat top (:func:`reflib.peaks.flat_tops`)."""
+    x = grid(1.0)
+    a = 1e-3 * np.minimum(gaussian(x, 2360.0, 80.0, 2.0), 1.0) + 1e-4 * gaussian(x, 900, 15)
+    a += np.random.default_rng(9).normal(0.0, 2e-6, x.size)
+    pl = pick_peaks(Spectrum(x, a))
+    assert np.sum(np.abs(pl.positions - 2360.0) < 80.0) == 1
+    assert float(pl.meta.extra["saturated"]) == pytest.approx(2360.0, abs=2.0)
+    assert nearest(pl.positions, 900.0) == pytest.approx(900.0, abs=0.5)
+
+
+def test_absorbance_mostly_above_two_is_not_saturated() -> None:
+    """A trace in scaled units that sits above 2 everywhere is not one big saturated band."""
+    x = grid(1.0)
+    a = 5.0 + gaussian(x, 1715.0, 15.0, 1.0) + gaussian(x, 1200.0, 15.0, 0.5)
+    pl = pick_peaks(Spectrum(x, a))
+    assert pl.positions == pytest.approx([1200.0, 1715.0], abs=0.2)
+    assert "saturated" not in pl.meta.extra
+
+
 def test_saturated_runs_merge_noise_gaps_and_ignore_single_points() -> None:
     """Runs at the floor split by a point of noise are one run; a lone point is not a run."""
     a = np.array([0, 0, 4, 4, 3.9, 4, 4, 0, 0, 0, 4, 0, 0], dtype=float)
