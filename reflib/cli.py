@@ -38,7 +38,7 @@ def _peak_table(peaks: Any, assign: bool = False) -> str:
     if assign:
         from reflib import bands
 
-        notes = {p.position: bands.describe(p) for p in peaks}
+        notes = dict(zip(peaks.positions.tolist(), bands.describe_all(peaks)))
     for p in peaks.descending():
         width = "" if p.width != p.width else f"{p.width:6.1f}"
         row = f"{p.position:8.1f}  {p.intensity:5.2f}  {width:>6}  {p.words()}"

@@ -46,15 +46,25 @@ class Encoding:
         A band marked broad keeps its own FWHM, at least this much (cm-1).
     transform:
         Intensity tempering: ``'sqrt'`` (default), ``'linear'`` or ``'log'`` (log1p of 9*I).
+    floor:
+        Bands weaker than this, relative to the strongest band outside the spectrum's own
+        spoiled regions, are left out (see :func:`comparable_peaks`).
+
+    The defaults were chosen on scripts/bench_accuracy.py (320 invented compounds, 3 040
+    queries): broadening 10 / 12 / 16 / 18 / 24 cm-1 gave top-1 86.0 / 89.3 / 91.8 / 91.9 /
+    89.8 %; the square root beat linear (74.1 %) and log (85.2 %); 2 cm-1 bins gave the same as
+    4 cm-1 (91.8 %); renormalising outside the spoiled regions with a 0.05 floor added about a
+    point.
     """
 
     lo: float = 400.0
     hi: float = 4000.0
     bin_width: float = 4.0
-    broadening: float = 10.0
+    broadening: float = 16.0
     broad_min_width: float = 60.0
     transform: str = "sqrt"
-    version: int = 1
+    floor: float = 0.05
+    version: int = 2
 
     def __post_init__(self) -> None:
         if not (0 < self.lo < self.hi):
@@ -63,6 +73,8 @@ class Encoding:
             raise ValidationError(f"bin width {self.bin_width} cm-1 is not sensible for the grid")
         if self.broadening <= 0 or self.broad_min_width <= 0:
             raise ValidationError("broadening widths must be positive cm-1")
+        if not (0.0 <= self.floor < 1.0):
+            raise ValidationError(f"floor must be in [0, 1), got {self.floor}")
         if self.transform not in TRANSFORMS:
             raise ValidationError(f"transform must be one of {TRANSFORMS}, got {self.transform!r}")
 
@@ -142,6 +154,41 @@ def encode(peaks: PeakList, enc: Encoding = DEFAULT_ENCODING) -> np.ndarray:
             d = (grid[i0:i1] - p) / s
             out[i0:i1] += a * np.exp(-0.5 * d * d)
     return out.astype(np.float32)
+
+
+def comparable_peaks(
+    peaks: PeakList, tokens: list[str] | tuple[str, ...] = (), enc: Encoding = DEFAULT_ENCODING
+) -> PeakList:
+    """The peak list as the comparison sees it: intensities relative to the strongest band
+    outside the regions the spectrum's own preparation spoils (a solvent or mull-oil band would
+    otherwise set the scale), clipped to 1, and bands under ``enc.floor`` left out.
+
+    >>> pl = PeakList([1215.0, 1715.0, 1100.0], [1.0, 0.2, 0.005])
+    >>> comparable_peaks(pl, ["chcl3"]).positions.tolist()   # 1215 is chloroform's own band
+    [1215.0, 1715.0]
+    """
+    from reflib import prep as prep_mod
+
+    if len(peaks) == 0:
+        return peaks
+    w = prep_mod.weight_profile(peaks.positions, list(tokens), air=True)
+    clear = w >= 0.5
+    scale = float(peaks.intensities[clear].max()) if np.any(clear) else 1.0
+    if scale <= 0:
+        scale = 1.0
+    inten = np.clip(peaks.intensities / scale, 0.0, 1.0)
+    keep = inten >= enc.floor
+    if np.all(keep) and scale == 1.0:
+        return peaks
+    return PeakList(
+        peaks.positions[keep],
+        inten[keep],
+        peaks.widths[keep],
+        None,
+        peaks.broad[keep],
+        peaks.shoulder[keep],
+        meta=peaks.meta,
+    )
 
 
 def encode_many(peak_lists: list[PeakList], enc: Encoding = DEFAULT_ENCODING) -> np.ndarray:

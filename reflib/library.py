@@ -22,7 +22,7 @@ from typing import Any
 import numpy as np
 
 from reflib import prep as prep_mod
-from reflib.encode import DEFAULT_ENCODING, Encoding, encode
+from reflib.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.errors import ValidationError
 from reflib.search import (
     DEFAULT_RULE,
@@ -163,7 +163,7 @@ class Library:
         if len(peaks) == 0:
             raise ValidationError("no bands found in this spectrum; nothing to add")
         enc = self.encoding
-        vector = encode(peaks, enc)
+        vector = encode(comparable_peaks(peaks, tokens, enc), enc)
         existing = self.store.compound_by_name(name)
         warnings: list[str] = []
         structure = _structure(smiles) if smiles else None
@@ -236,7 +236,8 @@ class Library:
         name: str,
         existing: dict[str, Any] | None,
     ) -> list[str]:
-        res = self._search_peaks(peaks, data_range(data), tokens, top=3, profile=None)
+        qpeaks = comparable_peaks(peaks, tokens, self.encoding)
+        res = self._search_peaks(qpeaks, data_range(data), tokens, top=3, profile=None)
         if not res.hits:
             return []
         own_id = existing["id"] if existing else None
@@ -299,7 +300,7 @@ class Library:
         prepared = []
         for qry in queries:
             tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
-            peaks = to_peaks(qry)
+            peaks = comparable_peaks(to_peaks(qry), tokens, self.encoding)
             prepared.append((qry, peaks, data_range(qry), tokens))
         return self._search_prepared(prepared, top=top, profile=weights)
 
@@ -390,7 +391,7 @@ class Library:
             sid = int(idx.spectrum_ids[i])
             cid = int(idx.compound_ids[i])
             g = group_of(i)
-            ref_peaks = self.store.peaks_of(sid)
+            ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
             w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile)
             ex = explain(peaks, ref_peaks, grid, w)
             explanations.append((ex, ref_peaks, w))
@@ -427,7 +428,7 @@ class Library:
             _, p2, _ = explanations[1]
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
-        _annotate(hits)
+        _annotate(hits, peaks)
         return SearchResult(
             query_file=None,
             query_prep=tokens,
@@ -490,7 +491,10 @@ class Library:
 
         enc = encoding or self.encoding
         ids = [r[0] for r in self.store.conn.execute("SELECT id FROM spectra ORDER BY id")]
-        vectors = [(sid, encode(self.store.peaks_of(sid), enc)) for sid in ids]
+        vectors = []
+        for sid in ids:
+            pl = self.store.peaks_of(sid)
+            vectors.append((sid, encode(comparable_peaks(pl, pl.meta.prep, enc), enc)))
         from reflib.store import pack_vector
 
         with self.store.write():
@@ -547,17 +551,17 @@ def _group_lookup(idx):
     return group_of
 
 
-def _annotate(hits: list[Hit]) -> None:
-    """Label the new bands of each hit with candidate groups (the most telling bands)."""
-    try:
-        from reflib import bands
-    except ImportError:  # pragma: no cover
-        return
+def _annotate(hits: list[Hit], query: PeakList) -> None:
+    """Label the new bands of each hit with candidate groups (the most telling bands), using
+    the query's own strength, shape and other bands (:func:`reflib.bands.assign`)."""
+    from reflib import bands
+
+    labels = dict(zip(query.positions.tolist(), bands.describe_all(query)))
     for h in hits:
         for pos in h.new:
-            cands = bands.candidates(pos, top=2)
-            if cands:
-                h.annotations[f"{pos:.1f}"] = " or ".join(c.label for c in cands)
+            text = labels.get(pos)
+            if text:
+                h.annotations[f"{pos:.1f}"] = text
 
 
 def _clean_name(name: str) -> str:
