@@ -34,6 +34,7 @@ Example::
 from __future__ import annotations
 
 import importlib
+import sqlite3
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -142,18 +143,23 @@ def run_checks(lib_or_store: Any) -> tuple[list[Finding], str]:
     store = _store(lib_or_store)
     conn = store.conn
     out: list[Finding] = []
-    with store.read():
-        rows = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall()]
-        if rows != ["ok"]:
-            out.append(
-                Finding(
-                    "integrity",
-                    "SQLite integrity check failed: "
-                    + "; ".join(str(r) for r in rows[:5])
-                    + " - restore the library from a backup",
-                    len(rows),
-                )
+    try:
+        rows = [str(r[0]) for r in conn.execute("PRAGMA integrity_check").fetchall()]
+    except sqlite3.DatabaseError as exc:
+        rows = [f"SQLite cannot read the file ({exc})"]
+    if rows != ["ok"]:
+        out.append(
+            Finding(
+                "integrity",
+                "SQLite integrity check failed: "
+                + "; ".join(rows[:3])
+                + (f" (and {len(rows) - 3} more)" if len(rows) > 3 else "")
+                + " - restore the library from a backup",
+                len(rows),
             )
+        )
+        return out, "unknown"  # nothing else can be trusted in a damaged file
+    with store.read():
         fk = conn.execute("PRAGMA foreign_key_check").fetchall()
         if fk:
             tables = sorted({str(r[0]) for r in fk})
@@ -201,7 +207,12 @@ def run_checks(lib_or_store: Any) -> tuple[list[Finding], str]:
             if ids:
                 out.append(Finding(check, f"{len(ids)} {words}", len(ids), ids=ids))
         key = store.encoding.key()
-        stale = _ids(conn, "SELECT spectrum_id FROM vectors WHERE encoding IS NOT ?", (key,))
+        stale = _ids(
+            conn,
+            "SELECT v.spectrum_id FROM vectors v JOIN spectra s ON s.id = v.spectrum_id "
+            "WHERE v.encoding IS NOT ?",
+            (key,),
+        )
         if stale:
             out.append(
                 Finding(
@@ -311,10 +322,14 @@ def check_library(lib_or_store: Any, *, fix: bool = False) -> HealthReport:
             findings += [f for f in after if f.check not in {g.check for g in findings}]
         if hasattr(lib_or_store, "_index"):
             lib_or_store._index = None
+    try:
+        counts = store.counts()
+    except sqlite3.DatabaseError:
+        counts = dict.fromkeys(("compounds", "spectra", "peaks", "vectors"), -1)
     return HealthReport(
         path=store.path,
         schema_version=store.schema_version,
-        counts=store.counts(),
+        counts=counts,
         findings=findings,
         index_status=status,
         fixed=fixed,
@@ -324,9 +339,13 @@ def check_library(lib_or_store: Any, *, fix: bool = False) -> HealthReport:
 def report_lines(report: HealthReport) -> list[str]:
     """The report as lines for the terminal."""
     c = report.counts
+    if min(c.values(), default=0) < 0:
+        what = "contents unreadable"
+    else:
+        what = f"{c['compounds']} compounds, {c['spectra']} spectra, {c['peaks']} bands"
     lines = [
-        f"library {report.path}: schema {report.schema_version}, {c['compounds']} compounds, "
-        f"{c['spectra']} spectra, {c['peaks']} bands; index cache: {report.index_status}"
+        f"library {report.path}: schema {report.schema_version}, {what}; "
+        f"index cache: {report.index_status}"
     ]
     for f in report.findings:
         tag = "fixed" if f.fixed else ("notice" if f.severity == "notice" else "problem")
@@ -335,7 +354,9 @@ def report_lines(report: HealthReport) -> list[str]:
         lines.append("healthy")
     else:
         n = len(report.problems)
-        hint = "" if any(f.fixed for f in report.findings) else " (--fix repairs what is safe)"
+        fixable = any(f.fixable and not f.fixed for f in report.problems)
+        tried = any(f.fixed for f in report.findings)
+        hint = " (--fix repairs what is safe)" if fixable and not tried else ""
         lines.append(f"{n} problem{'s' if n != 1 else ''} left{hint}")
     return lines
 
