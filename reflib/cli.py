@@ -350,29 +350,93 @@ def _print_search(res, explain_top: int = 3) -> None:
     typer.echo(CAUTION)
 
 
+def _expand(paths: list[Path]) -> list[Path]:
+    out: list[Path] = []
+    for p in paths:
+        if p.is_dir():
+            files = sorted(f for f in p.iterdir() if f.is_file() and not f.name.startswith("."))
+            if not files:
+                raise _usage(f"{p}: folder holds no files to search")
+            out += files
+        else:
+            out.append(p)
+    return out
+
+
 @app.command()
 def search(
-    files: list[Path] = typer.Argument(..., help="Unknown spectra or peak lists."),
+    files: list[Path] = typer.Argument(..., help="Unknown spectra or peak lists, or folders."),
     prep: str = typer.Option(None, "--prep", help="The unknown's preparation, e.g. nujol."),
     top: int = typer.Option(5, "--top", help="How many hits to list."),
     weights: str = typer.Option(
         None, "--weights", help="Region profile: functional, fingerprint, or 1800-1650:3,..."
     ),
-    json_out: bool = typer.Option(False, "--json", help="Print the JSON contract (README)."),
+    json_out: bool = typer.Option(
+        False, "--json", help="Print the JSON contract (README), one document per line."
+    ),
+    csv_out: Path = typer.Option(None, "--csv", help="Also write a one-line-per-query summary."),
     library: Path = LibraryOpt,
 ) -> None:
-    """Find which library compounds an unknown spectrum resembles, band by band."""
+    """Find which library compounds an unknown spectrum resembles, band by band.
+
+    Several files (or a folder) are searched as one batch; a file that cannot be read is
+    reported and the others are still searched (exit status 1 then).
+    """
     from reflib.io import read_spectrum
 
+    paths = _expand(files)
     with _open(library) as lib:
-        for i, f in enumerate(files):
-            res = lib.search(read_spectrum(f), prep=prep, top=top, weights=weights)
-            if json_out:
-                typer.echo(json.dumps(res.to_dict(), ensure_ascii=False))
-            else:
-                if i:
-                    typer.echo("")
-                _print_search(res)
+        queries, failed = [], []
+        for f in paths:
+            try:
+                queries.append(read_spectrum(f))
+            except ReflibError as exc:
+                if len(paths) == 1:
+                    raise
+                failed.append(str(exc))
+        if len(queries) > 20:
+            results = []
+            with typer.progressbar(length=len(queries), label="searching", file=sys.stderr) as bar:
+                for start in range(0, len(queries), 256):
+                    chunk = queries[start : start + 256]
+                    results += lib.search_many(chunk, prep=prep, top=top, weights=weights)
+                    bar.update(len(chunk))
+        else:
+            results = lib.search_many(queries, prep=prep, top=top, weights=weights)
+    for i, res in enumerate(results):
+        if json_out:
+            typer.echo(json.dumps(res.to_dict(), ensure_ascii=False))
+        else:
+            if i:
+                typer.echo("")
+            _print_search(res)
+    if csv_out:
+        _write_summary(csv_out, results)
+    for msg in failed:
+        typer.echo(f"reflib: {msg}", err=True)
+    if failed:
+        raise typer.Exit(1)
+
+
+def _write_summary(path: Path, results) -> None:
+    import csv
+
+    with open(path, "w", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        w.writerow(["file", "verdict", "top_hit", "score", "second_hit", "second_score"])
+        for r in results:
+            h1 = r.hits[0] if r.hits else None
+            h2 = r.hits[1] if len(r.hits) > 1 else None
+            w.writerow(
+                [
+                    r.query_file,
+                    r.verdict,
+                    h1.name if h1 else "",
+                    f"{h1.score:.4f}" if h1 else "",
+                    h2.name if h2 else "",
+                    f"{h2.score:.4f}" if h2 else "",
+                ]
+            )
 
 
 @app.command()

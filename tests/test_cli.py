@@ -126,3 +126,19 @@ def test_import_manifest_reports_failures_and_keeps_good_ones(tmp_path):
     # run again: the good ones are skipped by file hash, not added twice
     r = reflib("import", "-L", str(lib), str(tmp_path / "m.csv"))
     assert "added 0, skipped 2" in r.stdout
+
+
+def test_batch_search_of_a_folder_writes_json_lines_and_csv(libpath, tmp_path):
+    folder = tmp_path / "crudes"
+    folder.mkdir()
+    (folder / "a.txt").write_text(ACETONE)
+    (folder / "b.txt").write_text(BENZONITRILE)
+    (folder / "broken.txt").write_text("hello")
+    summary = tmp_path / "summary.csv"
+    r = reflib("search", "-L", str(libpath), str(folder), "--json", "--csv", str(summary))
+    assert r.returncode == 1  # one file could not be read; the others were searched
+    assert "broken.txt" in r.stderr
+    docs = [json.loads(line) for line in r.stdout.splitlines()]
+    assert [d["hits"][0]["name"] for d in docs] == ["acetone", "benzonitrile"]
+    rows = summary.read_text().splitlines()
+    assert rows[0].startswith("file,verdict,top_hit") and len(rows) == 3
