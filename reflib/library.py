@@ -302,7 +302,8 @@ class Library:
             tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
             peaks = comparable_peaks(to_peaks(qry), tokens, self.encoding)
             prepared.append((qry, peaks, data_range(qry), tokens))
-        return self._search_prepared(prepared, top=top, profile=weights)
+        with self.store.read():  # index and the hits' bands from one snapshot of the file
+            return self._search_prepared(prepared, top=top, profile=weights)
 
     def _search_prepared(self, prepared: list, *, top: int, profile: str | None) -> list:
         from reflib.search import score_index

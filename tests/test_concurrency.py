@@ -26,6 +26,7 @@ import pytest
 
 from reflib import store as store_mod
 from reflib.errors import LibraryError
+from reflib.library import Library
 from reflib.spectrum import PeakList
 from reflib.store import Store
 
@@ -317,3 +318,47 @@ def test_backup_while_another_process_writes(tmp_path):
         _assert_whole(c)  # a consistent snapshot: whole spectra only
     r = _reflib("backup", "-L", lib, copies[0])
     assert r.returncode == 2 and "already exists" in r.stderr
+
+
+REMOVER = textwrap.dedent(
+    """
+    import sys
+    from pathlib import Path
+    from reflib.library import Library
+
+    path, go = sys.argv[1], Path(sys.argv[2])
+    while not go.exists():
+        pass
+    with Library.open(path) as lib:
+        for c in lib.compounds():
+            lib.remove(int(c["id"]))
+    """
+)
+
+
+def test_search_while_another_process_removes_compounds(tmp_path):
+    """A hit's bands are read from the same snapshot as the index, so a compound removed by
+    someone else mid-search never turns into a 'no spectrum' error."""
+    lib = tmp_path / "lib.sqlite"
+    rng = np.random.default_rng(11)
+    with Library.create(lib) as first:
+        for i in range(80):
+            pos = rng.choice(np.arange(500, 3600, 3), size=8, replace=False).astype(float)
+            first.add(PeakList(pos, rng.uniform(0.1, 1, 8)), name=f"r{i}", check_similar=False)
+    go = tmp_path / "go"
+    remover = _spawn(REMOVER, lib, go)
+    errors, searches = [], 0
+    with Library.open(lib) as reader:
+        go.touch()
+        while remover.poll() is None or searches < 3:
+            pos = rng.choice(np.arange(500, 3600, 3), size=8, replace=False).astype(float)
+            try:
+                for h in reader.search(PeakList(pos, np.ones(8)), top=5).hits:
+                    assert h.spectrum_id > 0 and h.matched is not None
+            except Exception as exc:  # noqa: BLE001 - any error is the finding
+                errors.append(f"{type(exc).__name__}: {exc}")
+            searches += 1
+    remover.communicate(timeout=60)
+    assert remover.returncode == 0
+    assert errors == [] and searches >= 3
+    assert _count(lib) == 0
