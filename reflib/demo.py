@@ -19,10 +19,11 @@ Echo = Callable[[str], object]
 
 def find_demo_data(explicit: str | Path | None = None) -> Path:
     """The demo_data folder: ``explicit``, else ./demo_data, else the one beside the package."""
+    here = Path(__file__).resolve().parent
     candidates = (
         [Path(explicit)]
         if explicit
-        else [Path.cwd() / "demo_data", Path(__file__).resolve().parent.parent / "demo_data"]
+        else [Path.cwd() / "demo_data", here / "demo_data", here.parent / "demo_data"]
     )
     for c in candidates:
         if (c / "manifest.csv").is_file():
