@@ -178,6 +178,8 @@ class Library:
         if check_similar and self.store.counts()["spectra"]:
             warnings += self._similar_warnings(data, peaks, tokens, name, existing)
         with self.store.write():
+            if existing is None:  # another process may have added it since the lookup above
+                existing = self.store.compound_by_name(name)
             if existing:
                 cid = int(existing["id"])
                 new_compound = False

@@ -41,6 +41,7 @@ WRITER = textwrap.dedent(
 
     path, worker, n, busy_ms, go = sys.argv[1], int(sys.argv[2]), int(sys.argv[3]), \\
         float(sys.argv[4]), Path(sys.argv[5])
+    shared = len(sys.argv) > 6  # all workers add to the same compound names
     store_mod.BUSY_TIMEOUT_S = busy_ms / 1000.0
     sleeps = [0]
     real_sleep = time.sleep
@@ -57,7 +58,8 @@ WRITER = textwrap.dedent(
             pos = rng.choice(np.arange(500, 3600, 3), size=8, replace=False).astype(float)
             pl = PeakList(pos, rng.uniform(0.1, 1.0, 8))
             try:
-                lib.add(pl, name=f"w{worker}-{i:02d}", check_similar=False)
+                name = f"shared-{i:02d}" if shared else f"w{worker}-{i:02d}"
+                lib.add(pl, name=name, check_similar=False)
             except Exception as exc:
                 errors.append(f"{type(exc).__name__}: {exc}")
     print(json.dumps({"errors": errors, "retries": sleeps[0]}))
@@ -138,6 +140,25 @@ def test_four_writers_add_fifty_each_while_a_search_runs(tmp_path, busy_ms):
     con.close()
     if busy_ms < 10:
         assert sum(r["retries"] for r in results) > 0  # the retry loop really ran
+
+
+def test_writers_adding_to_the_same_compounds(tmp_path):
+    """Three people adding spectra of the same 30 compounds at once: 30 compounds, 90 spectra.
+
+    The name is looked up again inside the write transaction, so a compound another process
+    created a moment ago gets the spectrum instead of a unique-name error.
+    """
+    lib = tmp_path / "lib.sqlite"
+    Store.create(lib).close()
+    go = tmp_path / "go"
+    writers = [_spawn(WRITER, lib, k, 30, 30000.0, go, "shared") for k in range(3)]
+    go.touch()
+    assert [_result(w)["errors"] for w in writers] == [[], [], []]
+    con = sqlite3.connect(lib)
+    assert con.execute("SELECT COUNT(*) FROM compounds").fetchone()[0] == 30
+    per = con.execute("SELECT COUNT(*) FROM spectra GROUP BY compound_id").fetchall()
+    assert sorted(n for (n,) in per) == [3] * 30
+    con.close()
 
 
 def _hold_write_lock(path: Path, seconds: float, started: threading.Event) -> None:
