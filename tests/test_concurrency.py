@@ -51,6 +51,7 @@ WRITER = textwrap.dedent(
     store_mod.time.sleep = counting_sleep  # counts the retry loop's backoff waits
     rng = np.random.default_rng(1000 + worker)
     errors = []
+    Path(f"{go}.ready{worker}").touch()
     while not go.exists():  # start together
         real_sleep(0.005)
     with Library.open(path) as lib:
@@ -62,6 +63,7 @@ WRITER = textwrap.dedent(
                 lib.add(pl, name=name, check_similar=False)
             except Exception as exc:
                 errors.append(f"{type(exc).__name__}: {exc}")
+            real_sleep(0.01)  # people do not add in a tight loop; keeps the searcher overlapping
     print(json.dumps({"errors": errors, "retries": sleeps[0]}))
     """
 )
@@ -74,13 +76,15 @@ SEARCHER = textwrap.dedent(
     from reflib.library import Library
     from reflib.spectrum import PeakList
 
-    path, stop = sys.argv[1], Path(sys.argv[2])
+    path, stop, ready = sys.argv[1], Path(sys.argv[2]), Path(sys.argv[3])
     rng = np.random.default_rng(5)
     n = 0
     errors = []
     seen = []
     with Library.open(path) as lib:
         while not stop.exists() or n < 3:
+            if n == 1:
+                ready.touch()  # imported and searching: the writers may start
             pos = rng.choice(np.arange(500, 3600, 3), size=8, replace=False).astype(float)
             try:
                 res = lib.search(PeakList(pos, np.ones(8)), top=3)
@@ -119,9 +123,13 @@ def test_four_writers_add_fifty_each_while_a_search_runs(tmp_path, busy_ms):
     """
     lib = tmp_path / "lib.sqlite"
     Store.create(lib).close()
-    go, stop = tmp_path / "go", tmp_path / "stop"
+    go, stop, ready = tmp_path / "go", tmp_path / "stop", tmp_path / "ready"
     writers = [_spawn(WRITER, lib, k, 50, busy_ms, go) for k in range(4)]
-    searcher = _spawn(SEARCHER, lib, stop)
+    searcher = _spawn(SEARCHER, lib, stop, ready)
+    deadline = time.monotonic() + 120
+    flags = [ready, *(Path(f"{go}.ready{k}") for k in range(4))]
+    while not all(f.exists() for f in flags) and time.monotonic() < deadline:
+        time.sleep(0.01)
     go.touch()
     results = [_result(w) for w in writers]
     stop.touch()
@@ -129,6 +137,7 @@ def test_four_writers_add_fifty_each_while_a_search_runs(tmp_path, busy_ms):
     assert [r["errors"] for r in results] == [[], [], [], []]
     assert search["errors"] == [] and search["searches"] >= 3
     assert search["seen"] == sorted(search["seen"])  # snapshots only move forward
+    assert any(0 < n < 200 for n in search["seen"])  # it did search while they wrote
     con = sqlite3.connect(lib)
     assert con.execute("SELECT COUNT(*) FROM spectra").fetchone()[0] == 200
     assert con.execute("SELECT COUNT(*) FROM compounds").fetchone()[0] == 200
