@@ -451,16 +451,10 @@ def demo(
 
 def _register_plugins() -> None:
     """Commands that live in their own modules (each defines ``register(app)``)."""
-    import importlib
+    from reflib import cli_health, cli_mixture
 
-    for mod in ("reflib.cli_mixture", "reflib.cli_health"):
-        try:
-            module = importlib.import_module(mod)
-        except ModuleNotFoundError as exc:
-            if exc.name != mod:
-                raise
-            continue
-        module.register(app)
+    cli_mixture.register(app)
+    cli_health.register(app)
 
 
 _register_plugins()
