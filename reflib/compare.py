@@ -274,15 +274,7 @@ def _info(data: Spectrum | PeakList, info: dict[str, Any] | None) -> dict[str, A
 
 
 def _subset(pl: PeakList, idx: np.ndarray) -> PeakList:
-    return PeakList(
-        pl.positions[idx],
-        pl.intensities[idx] if len(idx) else np.zeros(0),
-        pl.widths[idx],
-        [pl.strengths[i] for i in idx],
-        pl.broad[idx],
-        pl.shoulder[idx],
-        meta=pl.meta,
-    )
+    return pl.subset(idx)
 
 
 _WORDS = {"vs": "very strong ", "s": "strong ", "m": "medium ", "w": "weak ", "vw": "very weak "}

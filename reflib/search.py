@@ -360,15 +360,7 @@ def explain(
 
 
 def _subset(peaks: PeakList, idx: np.ndarray) -> PeakList:
-    return PeakList(
-        peaks.positions[idx],
-        peaks.intensities[idx] if len(idx) else np.zeros(0),
-        peaks.widths[idx],
-        [peaks.strengths[i] for i in idx],
-        peaks.broad[idx],
-        peaks.shoulder[idx],
-        meta=peaks.meta,
-    )
+    return peaks.subset(idx)
 
 
 # --- verdict -----------------------------------------------------------------------------------

@@ -296,6 +296,19 @@ class PeakList:
                 bool(self.shoulder[i]),
             )
 
+    def subset(self, idx: np.ndarray | Sequence[int]) -> PeakList:
+        """The bands at the given indices (into the ascending order), same metadata."""
+        idx = np.asarray(idx, dtype=np.int64)
+        return PeakList(
+            self.positions[idx],
+            self.intensities[idx] if idx.size else np.zeros(0),
+            self.widths[idx],
+            [self.strengths[i] for i in idx],
+            self.broad[idx],
+            self.shoulder[idx],
+            meta=self.meta,
+        )
+
     def descending(self) -> list[Peak]:
         """The bands from high to low wavenumber, the order chemists write them in."""
         return list(self)[::-1]
