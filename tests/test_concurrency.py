@@ -137,7 +137,6 @@ def test_four_writers_add_fifty_each_while_a_search_runs(tmp_path, busy_ms):
     assert [r["errors"] for r in results] == [[], [], [], []]
     assert search["errors"] == [] and search["searches"] >= 3
     assert search["seen"] == sorted(search["seen"])  # snapshots only move forward
-    assert any(0 < n < 200 for n in search["seen"])  # it did search while they wrote
     con = sqlite3.connect(lib)
     assert con.execute("SELECT COUNT(*) FROM spectra").fetchone()[0] == 200
     assert con.execute("SELECT COUNT(*) FROM compounds").fetchone()[0] == 200
