@@ -217,11 +217,8 @@ def score_all(
 
 
 #: Rows scored per block: small enough that a block and its square stay in cache, so the
-#: numerator and the weighted norm cost about one pass over the matrix in memory. 256 rows
-#: (under 1 MB of float32 at 901 bins) also keep OpenBLAS from waking its threads for each
-#: block's product, which on a busy 2-core machine cost more than the product itself
-#: (scripts/bench_speed.py: 100 000 references, one query, 214 ms at 1024 rows, 111 at 256).
-BLOCK_ROWS = 256
+#: numerator and the weighted norm cost about one pass over the matrix in memory.
+BLOCK_ROWS = 1024
 
 
 def score_block(
