@@ -386,7 +386,8 @@ def _local_fit(
     noise: float,
     corr_pts: float,
 ) -> tuple[float, float, float]:
-    """Best local fit over shifts; returns (amount of S, its standard error, height of S band)."""
+    """Best local fit over shifts: (amount of S, its standard error, height of the S band,
+    residual rms in noise units)."""
     sl = win.sl
     m = usable[sl]
     yy = y[sl][m]
@@ -424,6 +425,7 @@ def _local_fit(
     rnorm, coef, X, sc = best[:4]
     n, p = X.shape[0], (3 if P is None else 4)
     s2 = max(rnorm**2 / max(n - p, 1), noise**2)
+    misfit = float(np.sqrt(rnorm**2 / max(n - p, 1)) / noise) if noise > 0 else 0.0
     # free-sign design for the covariance: [S, (P), 1, t]
     Xf = np.column_stack([X[:, 0]] + ([X[:, 1]] if P is not None else []) + [X[:, -4], X[:, -2]])
     try:
@@ -440,8 +442,8 @@ def _local_fit(
         den = float(np.sum(sc[core]))
         if den > 0:
             b_area = float(np.sum(rest[core]) / den)
-            return max(b_area, 0.0), sigma, peak
-    return float(coef[0]), sigma, peak
+            return max(b_area, 0.0), sigma, peak, misfit
+    return float(coef[0]), sigma, peak, misfit
 
 
 def _strong_bands(data: Data, grid: np.ndarray, prof: Profile) -> PeakList:
@@ -624,7 +626,7 @@ def leftover(
         win = _window(grid, pos, fwhm, usable)
         if win is None:
             continue
-        b, sb, peak = _local_fit(y, grid, S, P, win, usable, noise, corr_pts)
+        b, sb, peak, _misfit = _local_fit(y, grid, S, P, win, usable, noise, corr_pts)
         z = b / sb if sb > 0 else 0.0
         height = b * peak
         seen = z >= Z_SEEN and height >= Z_SEEN * noise
@@ -685,7 +687,7 @@ def leftover(
             win = _window(grid, pos, fwhm, usable)
             if win is None:
                 continue
-            b, sb, _peak = _local_fit(y, grid, S, P, win, usable, noise, corr_pts)
+            b, sb, _peak, _misfit = _local_fit(y, grid, S, P, win, usable, noise, corr_pts)
             am2.append(b)
             sg2.append(sb)
         am2a, sg2a = np.array(am2), np.array(sg2)
@@ -889,7 +891,7 @@ def _start_only(
 #: Forward selection adds a component only when it lowers the weighted residual sum of squares
 #: by at least this fraction, and by more than :data:`MIXTURE_NOISE_UNITS` squared noise units
 #: (what a column fitted to pure noise could remove), and takes at least :data:`MIN_SHARE`.
-MIXTURE_MIN_IMPROVEMENT = 0.05
+MIXTURE_MIN_IMPROVEMENT = 0.15
 MIXTURE_NOISE_UNITS = 25.0
 #: Sample bands at least this strong (relative) that the fit leaves at least
 #: :data:`UNEXPLAINED_FRACTION` of are reported as unexplained.
