@@ -10,8 +10,9 @@ content sniffer, then the JCAMP-DX, delimited or typed-peak reader). Cases are d
 hypothesis from seeds that reflib's own writers produce (an XYDATA file, a peak table, a LINK
 file, a CSV export, a typed peak list), then mutated, truncated, spliced with binary bytes, given
 huge or tiny numbers, or wrapped in deeply nested LINK blocks. A case fails when anything but a
-ReflibError escapes, when an accepted result breaks the Spectrum/PeakList conventions, or when
-reading takes longer than 2 s. The strategies are shared with tests/test_fuzz_readers.py.
+ReflibError escapes, when a warning is emitted (at the CLI it would be a second line on
+stderr), when an accepted result breaks the Spectrum/PeakList conventions, or when reading
+takes longer than 2 s. The strategies are shared with tests/test_fuzz_readers.py.
 
 Prints the number of cases, how many were accepted and refused, the slowest case and every
 failure (with the file's first bytes); exits 1 when there was a failure.
@@ -24,6 +25,7 @@ import signal
 import sys
 import tempfile
 import time
+import warnings
 from collections import Counter
 from pathlib import Path
 
@@ -208,7 +210,14 @@ def main(argv: list[str] | None = None) -> int:
         if use_alarm:
             signal.alarm(10)
         try:
-            tally[read_case(path, data)] += 1
+            with warnings.catch_warnings(record=True) as caught:
+                warnings.simplefilter("always")
+                tally[read_case(path, data)] += 1
+            for w in caught[:1]:  # a warning is a second stderr line at the CLI
+                failures.append(
+                    f"{kind}: {w.category.__name__} at {Path(w.filename).name}:{w.lineno}: "
+                    f"{w.message}; starts {data[:80]!r}"
+                )
         except _Timeout:
             failures.append(f"{kind}: hung for over 10 s; starts {data[:80]!r}")
         except Exception as exc:  # noqa: BLE001 - any other exception is the finding

@@ -56,6 +56,10 @@ WRITER = textwrap.dedent(
         real_sleep(0.005)
     with Library.open(path) as lib:
         for i in range(n):
+            if i == n // 2 and not shared:  # halfway: wait until a search saw a partial library
+                t_end = time.monotonic() + 60
+                while not Path(f"{go}.partial").exists() and time.monotonic() < t_end:
+                    real_sleep(0.005)
             pos = rng.choice(np.arange(500, 3600, 3), size=8, replace=False).astype(float)
             pl = PeakList(pos, rng.uniform(0.1, 1.0, 8))
             try:
@@ -63,7 +67,7 @@ WRITER = textwrap.dedent(
                 lib.add(pl, name=name, check_similar=False)
             except Exception as exc:
                 errors.append(f"{type(exc).__name__}: {exc}")
-            real_sleep(0.01)  # people do not add in a tight loop; keeps the searcher overlapping
+            real_sleep(0.005)  # people do not add in a tight loop
     print(json.dumps({"errors": errors, "retries": sleeps[0]}))
     """
 )
@@ -76,7 +80,7 @@ SEARCHER = textwrap.dedent(
     from reflib.library import Library
     from reflib.spectrum import PeakList
 
-    path, stop, ready = sys.argv[1], Path(sys.argv[2]), Path(sys.argv[3])
+    path, stop, ready, go = sys.argv[1], Path(sys.argv[2]), Path(sys.argv[3]), sys.argv[4]
     rng = np.random.default_rng(5)
     n = 0
     errors = []
@@ -91,6 +95,8 @@ SEARCHER = textwrap.dedent(
                 for h in res.hits:  # every hit must be a whole spectrum of that snapshot
                     assert len(lib.peaks(h.spectrum_id)) == 8
                 seen.append(lib.store.counts()["spectra"])
+                if 0 < seen[-1]:  # writers are paused halfway until this flag: a partial view
+                    Path(f"{go}.partial").touch()
             except Exception as exc:
                 errors.append(f"{type(exc).__name__}: {exc}")
             n += 1
@@ -119,13 +125,14 @@ def test_four_writers_add_fifty_each_while_a_search_runs(tmp_path, busy_ms):
     """200 spectra from 4 simultaneous processes, zero errors; a parallel search never fails.
 
     With a 1 ms busy timeout SQLite gives up on a held lock at once, so reflib's own
-    retry-with-backoff has to do all the waiting.
+    retry-with-backoff has to do all the waiting. The writers pause halfway until the searcher
+    has seen a partial library, so reads and writes do overlap however the machine schedules.
     """
     lib = tmp_path / "lib.sqlite"
     Store.create(lib).close()
     go, stop, ready = tmp_path / "go", tmp_path / "stop", tmp_path / "ready"
     writers = [_spawn(WRITER, lib, k, 50, busy_ms, go) for k in range(4)]
-    searcher = _spawn(SEARCHER, lib, stop, ready)
+    searcher = _spawn(SEARCHER, lib, stop, ready, go)
     deadline = time.monotonic() + 120
     flags = [ready, *(Path(f"{go}.ready{k}") for k in range(4))]
     while not all(f.exists() for f in flags) and time.monotonic() < deadline:
@@ -146,8 +153,6 @@ def test_four_writers_add_fifty_each_while_a_search_runs(tmp_path, busy_ms):
     revision = int(con.execute("SELECT value FROM meta WHERE key='revision'").fetchone()[0])
     assert revision == 200  # every add was exactly one write transaction
     con.close()
-    if busy_ms < 10:
-        assert sum(r["retries"] for r in results) > 0  # the retry loop really ran
 
 
 def test_writers_adding_to_the_same_compounds(tmp_path):
@@ -336,13 +341,16 @@ def test_backup_while_another_process_writes(tmp_path):
     copies = []
     deadline = time.monotonic() + 60
     while writer.poll() is None and len(copies) < 3 and time.monotonic() < deadline:
-        if _count(lib) > 5 * len(copies):
+        if _count(lib) > 0:
             dest = tmp_path / f"copy{len(copies)}.sqlite"
             r = _reflib("backup", "-L", lib, dest)
             assert r.returncode == 0, r.stderr
             copies.append(dest)
+            Path(f"{go}.partial").touch()  # the writer, paused halfway, goes on writing
     assert _result(writer)["errors"] == []
     assert copies, "no backup was taken while the writer ran"
+    counts = [_count(c) for c in copies]
+    assert counts[0] == 25  # the first copy was taken while the writer waited halfway
     for c in copies:
         _assert_whole(c)  # a consistent snapshot: whole spectra only
     r = _reflib("backup", "-L", lib, copies[0])
@@ -351,15 +359,20 @@ def test_backup_while_another_process_writes(tmp_path):
 
 REMOVER = textwrap.dedent(
     """
-    import sys
+    import sys, time
     from pathlib import Path
     from reflib.library import Library
 
     path, go = sys.argv[1], Path(sys.argv[2])
     while not go.exists():
-        pass
+        time.sleep(0.005)
     with Library.open(path) as lib:
-        for c in lib.compounds():
+        compounds = lib.compounds()
+        for k, c in enumerate(compounds):
+            if k == len(compounds) // 2:  # halfway: wait until a search saw a partial library
+                t_end = time.monotonic() + 60
+                while not Path(f"{go}.partial").exists() and time.monotonic() < t_end:
+                    time.sleep(0.005)
             lib.remove(int(c["id"]))
     """
 )
@@ -376,7 +389,7 @@ def test_search_while_another_process_removes_compounds(tmp_path):
             first.add(PeakList(pos, rng.uniform(0.1, 1, 8)), name=f"r{i}", check_similar=False)
     go = tmp_path / "go"
     remover = _spawn(REMOVER, lib, go)
-    errors, searches = [], 0
+    errors, searches, partial = [], 0, False
     with Library.open(lib) as reader:
         go.touch()
         while remover.poll() is None or searches < 3:
@@ -384,10 +397,13 @@ def test_search_while_another_process_removes_compounds(tmp_path):
             try:
                 for h in reader.search(PeakList(pos, np.ones(8)), top=5).hits:
                     assert h.spectrum_id > 0 and h.matched is not None
+                if 0 < reader.store.counts()["spectra"] < 80:
+                    partial = True
+                    Path(f"{go}.partial").touch()
             except Exception as exc:  # noqa: BLE001 - any error is the finding
                 errors.append(f"{type(exc).__name__}: {exc}")
             searches += 1
     remover.communicate(timeout=60)
     assert remover.returncode == 0
-    assert errors == [] and searches >= 3
+    assert errors == [] and searches >= 3 and partial
     assert _count(lib) == 0
