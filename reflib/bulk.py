@@ -19,6 +19,7 @@ library and nothing of its own chunk.
 from __future__ import annotations
 
 import json
+import os
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from itertools import islice
@@ -37,7 +38,7 @@ from reflib.library import (
     _structure,
     to_peaks,
 )
-from reflib.spectrum import Spectrum
+from reflib.spectrum import PeakList, Spectrum
 from reflib.store import (
     MAX_STORED_PEAKS,
     MAX_STORED_POINTS,
@@ -87,30 +88,58 @@ class _Prepared:
     warnings: list[str]
 
 
+#: A chunk with at least this many full spectra is peak-picked in worker processes.
+PARALLEL_MIN = 32
+
+
 def add_bulk(
     lib: Library,
     items: Iterable[dict[str, Any]],
     *,
     chunk_size: int = CHUNK_SIZE,
     progress: Callable[[int], None] | None = None,
+    workers: int | None = None,
 ) -> list[AddResult]:
     """Add many entries, ``chunk_size`` per transaction; the same rows :meth:`Library.add` writes.
 
     ``items`` are dicts of :meth:`Library.add`'s keywords plus ``data`` (a Spectrum or a
     PeakList); ``progress`` is called with the number of items written after each chunk.
+    Full spectra are peak-picked in ``workers`` processes (default: one per core when a chunk
+    holds at least :data:`PARALLEL_MIN` spectra; 1 picks in this process).
     Returns one :class:`~reflib.library.AddResult` per item, in order.
     """
     if chunk_size < 1:
         raise ValidationError(f"chunk_size must be at least 1, got {chunk_size}")
+    if workers is not None and workers < 1:
+        raise ValidationError(f"workers must be at least 1, got {workers}")
+    n_workers = workers if workers is not None else (os.cpu_count() or 1)
     results: list[AddResult] = []
     it = iter(items)
     done = 0
-    for chunk in _chunks(it, chunk_size):
-        results += _add_chunk(lib, chunk, done)
-        done += len(chunk)
-        lib._index = None
-        if progress is not None:
-            progress(len(chunk))
+    pool = None
+    try:
+        for chunk in _chunks(it, chunk_size):
+            spectra = [
+                i
+                for i, item in enumerate(chunk)
+                if isinstance(item, dict) and isinstance(item.get("data"), Spectrum)
+            ]
+            picked: dict[int, PeakList] = {}
+            if n_workers > 1 and len(spectra) >= PARALLEL_MIN:
+                if pool is None:
+                    from concurrent.futures import ProcessPoolExecutor
+
+                    pool = ProcessPoolExecutor(max_workers=n_workers)
+                found = pool.map(to_peaks, [chunk[i]["data"] for i in spectra], chunksize=16)
+                picked = dict(zip(spectra, found))
+            results += _add_chunk(lib, chunk, done, picked)
+            done += len(chunk)
+            lib._index = None
+            if progress is not None:
+                progress(len(chunk))
+    finally:
+        if pool is not None:
+            pool.shutdown()
     return results
 
 
@@ -122,7 +151,9 @@ def _chunks(it: Iterator[dict[str, Any]], n: int) -> Iterator[list[dict[str, Any
         yield chunk
 
 
-def _prepare(lib: Library, item: dict[str, Any], pos: int) -> _Prepared:
+def _prepare(
+    lib: Library, item: dict[str, Any], pos: int, peaks: PeakList | None = None
+) -> _Prepared:
     """Everything :meth:`Library.add` computes before it writes, for one item."""
     if not isinstance(item, dict) or "data" not in item:
         raise ValidationError(f"item {pos}: expected a dict with 'data' and 'name'")
@@ -137,7 +168,8 @@ def _prepare(lib: Library, item: dict[str, Any], pos: int) -> _Prepared:
     role = normalise_role(item["role"]) if item.get("role") is not None else None
     prep = item.get("prep")
     tokens = prep_mod.parse_tokens(prep) if prep is not None else []
-    peaks = to_peaks(data)
+    if peaks is None:
+        peaks = to_peaks(data)
     tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(data.meta.prep)]))
     if len(peaks) == 0:
         raise ValidationError("no bands found in this spectrum; nothing to add")
@@ -165,11 +197,16 @@ def _prepare(lib: Library, item: dict[str, Any], pos: int) -> _Prepared:
     return _Prepared(pos, data, name, role, tokens, peaks, vector, structure, item, warnings)
 
 
-def _add_chunk(lib: Library, chunk: list[dict[str, Any]], offset: int) -> list[AddResult]:
+def _add_chunk(
+    lib: Library,
+    chunk: list[dict[str, Any]],
+    offset: int,
+    picked: dict[int, PeakList] | None = None,
+) -> list[AddResult]:
     prepared = []
     for i, item in enumerate(chunk):
         try:
-            prepared.append(_prepare(lib, item, offset + i))
+            prepared.append(_prepare(lib, item, offset + i, (picked or {}).get(i)))
         except ReflibError as exc:
             raise type(exc)(f"item {offset + i}: {exc}") from None
     store = lib.store

@@ -17,7 +17,7 @@ import json
 import os
 import struct
 import tempfile
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -49,6 +49,9 @@ class Index:
     compound_ids: np.ndarray
     groups: list[Group]
     matrix: np.ndarray  # (n, bins) float32, possibly a read-only memory map
+    #: weighted reference norms already computed, by (group start, weight digest); see
+    #: :func:`reflib.search.score_index`
+    norms: dict = field(default_factory=dict, repr=False)
 
     @property
     def size(self) -> int:

@@ -36,6 +36,9 @@ from reflib.search import (
 from reflib.spectrum import PeakList, Spectrum
 from reflib.store import Store, normalise_role
 
+#: Queries scored together in one matrix product by :meth:`Library.search_many`.
+QUERY_CHUNK = 64
+
 #: A new spectrum whose best match is another compound at this verdict triggers a warning.
 SIMILAR_WARNING_VERDICT = "confident"
 
@@ -219,8 +222,15 @@ class Library:
     ) -> list[AddResult]:
         """Add many entries; each item is a dict of :meth:`add`'s keywords plus ``data``.
 
-        Each item is its own transaction: a bad item raises after the good ones before it are in.
+        Without ``check_similar`` this is :func:`reflib.bulk.add_bulk`: one transaction per
+        1 000 items, full spectra peak-picked in worker processes; a bad item raises, its chunk
+        is not written and the chunks before it are in. With ``check_similar`` each item is
+        searched against the library first and added in its own transaction.
         """
+        if not check_similar:
+            from reflib.bulk import add_bulk
+
+            return add_bulk(self, items)
         return [
             self.add(
                 item["data"],
@@ -318,22 +328,28 @@ class Library:
         for i, (_, _, qrange, tokens) in enumerate(prepared):
             key = (tuple(tokens), _round_range(qrange))
             batches.setdefault(key, []).append(i)
-        for (tokens, _), members in batches.items():
-            qrange = prepared[members[0]][2]
-            qmat = np.vstack([vectors[i] for i in members])
-            scores = (
-                score_index(qmat, idx, enc, list(tokens), qrange, profile)
-                if idx.size
-                else np.zeros((0, len(members)))
-            )
-            for col, i in enumerate(members):
-                qry, peaks, qr, tk = prepared[i]
-                res = self._explain_hits(
-                    peaks, vectors[i], qr, tk, scores[:, col], idx, top, profile
+        for (tokens, _), all_members in batches.items():
+            qrange = prepared[all_members[0]][2]
+            # score QUERY_CHUNK queries at a time: the (references x queries) score matrix
+            # stays small even for a large batch against a large library
+            for c0 in range(0, len(all_members), QUERY_CHUNK):
+                members = all_members[c0 : c0 + QUERY_CHUNK]
+                qmat = np.vstack([vectors[i] for i in members])
+                scores = (
+                    score_index(qmat, idx, enc, list(tokens), qrange, profile)
+                    if idx.size
+                    else np.zeros((0, len(members)))
                 )
-                res.query_file = qry.meta.source_file
-                results[i] = res
+                self._explain_batch(prepared, members, vectors, scores, idx, top, profile, results)
         return results  # type: ignore[return-value]
+
+    def _explain_batch(self, prepared, members, vectors, scores, idx, top, profile, results):
+        """Rank and explain each query of a scored chunk, writing into ``results``."""
+        for col, i in enumerate(members):
+            qry, peaks, qr, tk = prepared[i]
+            res = self._explain_hits(peaks, vectors[i], qr, tk, scores[:, col], idx, top, profile)
+            res.query_file = qry.meta.source_file
+            results[i] = res
 
     def _search_peaks(
         self,

@@ -247,6 +247,34 @@ def score_block(
     return scores
 
 
+#: How many weight vectors' reference norms an index keeps (a few per preparation in use).
+NORM_CACHE_SIZE = 64
+
+
+def weighted_norms(refs: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """sqrt(sum_j w_j r_ij^2) for every row of ``refs``, block by block (float64 result)."""
+    w32 = np.asarray(w, dtype=np.float32)
+    out = np.empty(refs.shape[0], dtype=np.float64)
+    for start in range(0, refs.shape[0], BLOCK_ROWS):
+        block = np.asarray(refs[start : start + BLOCK_ROWS])
+        out[start : start + block.shape[0]] = np.sqrt(np.maximum((block * block) @ w32, 0.0))
+    return out
+
+
+def _group_norms(index, g, w: np.ndarray) -> np.ndarray:
+    import hashlib
+
+    key = (g.start, g.stop, hashlib.blake2b(w.tobytes(), digest_size=16).digest())
+    cache = index.norms
+    rn = cache.get(key)
+    if rn is None:
+        rn = weighted_norms(index.matrix[g.start : g.stop], w)
+        if len(cache) >= NORM_CACHE_SIZE:
+            cache.pop(next(iter(cache)))
+        cache[key] = rn
+    return rn
+
+
 def score_index(
     q: np.ndarray,
     index,
@@ -256,15 +284,25 @@ def score_index(
     profile: str | None = None,
 ) -> np.ndarray:
     """Exact scores of one or more queries (m, bins) against every row of a
-    :class:`reflib.index.Index`: one weight vector and one blocked product per group.
+    :class:`reflib.index.Index`: one weight vector and one matrix product per group.
 
-    All queries share ``query_prep``, ``query_range`` and ``profile``. Returns (n, m).
+    The weighted norm of a group's references depends only on the weight vector, so it is
+    computed once per (group, weights) and kept on the index: after the first query of a
+    preparation, a query costs one pass over the matrix. All queries share ``query_prep``,
+    ``query_range`` and ``profile``. Returns (n, m).
     """
-    q = np.atleast_2d(q)
+    q = np.atleast_2d(np.asarray(q, dtype=np.float64))
     scores = np.zeros((index.size, q.shape[0]), dtype=np.float64)
     for g in index.groups:
         w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile)
-        score_block(q, index.matrix[g.start : g.stop], w, out=scores[g.start : g.stop])
+        rn = _group_norms(index, g, w)
+        wq = (q * w).astype(np.float32).T.copy()
+        qn = np.sqrt(np.einsum("ij,ij->i", q * w, q))
+        num = np.asarray(index.matrix[g.start : g.stop]) @ wq
+        den = rn[:, None] * qn[None, :]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            s = np.where(den > 0, num / np.where(den > 0, den, 1.0), 0.0)
+        scores[g.start : g.stop] = np.clip(s, 0.0, 1.0)
     return scores
 
 

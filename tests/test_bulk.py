@@ -117,3 +117,31 @@ def test_unknown_keyword_is_refused(tmp_path):
     lib = Library.create(tmp_path / "lib.sqlite")
     with pytest.raises(ValidationError, match="unknown keys check_similar"):
         add_bulk(lib, [{**_items()[0], "check_similar": True}])
+
+
+def test_worker_processes_pick_the_same_peaks(gas_phase, tmp_path):
+    """Full spectra (the real gas-phase files of the jcamp 1.3.2 sdist, as mechanics data)
+    picked in two worker processes give exactly the peaks picked in this process."""
+    from reflib.bulk import PARALLEL_MIN, add_bulk
+    from reflib.io import read_all
+    from reflib.spectrum import Spectrum
+
+    spectra = []
+    for path in sorted(gas_phase.glob("*.jdx")):
+        blocks = [b for b in read_all(path) if isinstance(b, Spectrum)]
+        if len(blocks) == 1:
+            spectra.append((path.stem, blocks[0]))
+        if len(spectra) == PARALLEL_MIN:
+            break
+    rows = []
+    for workers, name in [(1, "serial.sqlite"), (2, "parallel.sqlite")]:
+        lib = Library.create(tmp_path / name)
+        items = [{"data": s, "name": stem, "prep": "gas", "force": True} for stem, s in spectra]
+        add_bulk(lib, items, workers=workers)
+        rows.append(
+            lib.store.conn.execute(
+                "SELECT spectrum_id, position, intensity, width, strength FROM peaks ORDER BY id"
+            ).fetchall()
+        )
+        lib.close()
+    assert rows[0] and rows[0] == rows[1]

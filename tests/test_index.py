@@ -100,3 +100,21 @@ def test_encode_unchanged_by_index(lib):
     pos, inten = BANDS["acetone"]
     expected = encode(PeakList(np.array(pos, float), np.array(inten, float)), lib.encoding)
     assert np.allclose(idx.matrix[row], expected)
+
+
+def test_cached_norms_give_the_same_scores(lib):
+    from reflib.search import score_index
+
+    idx = index_mod.load(lib.store)
+    q = np.vstack(
+        [encode(PeakList(np.array(p, float), np.array(i, float))) for p, i in BANDS.values()]
+    )
+    first = score_index(q, idx, lib.encoding, ["nujol"], (None, None))
+    assert idx.norms  # one entry per group and weight vector
+    n_cached = len(idx.norms)
+    again = score_index(q, idx, lib.encoding, ["nujol"], (None, None))
+    assert len(idx.norms) == n_cached and np.array_equal(first, again)
+    for g in idx.groups:
+        w = comparison_weights(lib.encoding, ["nujol"], g.prep, (None, None), (g.lo, g.hi))
+        rows = np.asarray(idx.matrix[g.start : g.stop])
+        assert np.allclose(first[g.start : g.stop, 0], weighted_cosine(q[0], rows, w), atol=1e-5)
