@@ -573,6 +573,8 @@ def _group_lookup(idx):
 def _annotate(hits: list[Hit], query: PeakList) -> None:
     """Label the new bands of each hit with candidate groups (the most telling bands), using
     the query's own strength, shape and other bands (:func:`reflib.bands.assign`)."""
+    if not any(h.new for h in hits):
+        return  # nothing to label: skip the table look-ups (about 20 ms a query)
     from reflib import bands
 
     labels = dict(zip(query.positions.tolist(), bands.describe_all(query)))
