@@ -181,6 +181,13 @@ class Library:
         if check_similar and self.store.counts()["spectra"]:
             warnings += self._similar_warnings(data, peaks, tokens, name, existing)
         with self.store.write():
+            if data.meta.sha256 and not force:  # another process may have added this file
+                dup = self.store.spectrum_by_sha(data.meta.sha256)
+                if dup:
+                    raise ValidationError(
+                        f"this file is already in the library as spectrum {dup['id']} of "
+                        f"{dup['name']!r}; use --force to add it again"
+                    )
             if existing is None:  # another process may have added it since the lookup above
                 existing = self.store.compound_by_name(name)
             if existing:

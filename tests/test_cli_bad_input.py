@@ -272,12 +272,6 @@ OVERFLOW_PEAK_TABLE = (
 )
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="reflib/io/jcamp.py scales the peak table by XFACTOR outside np.errstate, so numpy's "
-    "overflow RuntimeWarning reaches stderr before the error line (found by "
-    "scripts/fuzz_readers.py); remove this mark when fixed",
-)
 def test_overflowing_factor_still_gives_one_line(tmp_path):
     f = tmp_path / "overflow.jdx"
     f.write_text(OVERFLOW_PEAK_TABLE)
