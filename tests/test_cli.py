@@ -142,3 +142,19 @@ def test_batch_search_of_a_folder_writes_json_lines_and_csv(libpath, tmp_path):
     assert [d["hits"][0]["name"] for d in docs] == ["acetone", "benzonitrile"]
     rows = summary.read_text().splitlines()
     assert rows[0].startswith("file,verdict,top_hit") and len(rows) == 3
+
+
+def test_export_writes_files_that_read_back(libpath, tmp_path):
+    out = tmp_path / "out"
+    r = reflib("export", "-L", str(libpath), str(out), "--format", "jcamp")
+    assert r.returncode == 0, r.stderr
+    from reflib.io import read_spectrum
+
+    files = sorted(out.glob("*.jdx"))
+    assert len(files) == 2
+    back = {f.name.split("-")[0]: read_spectrum(f) for f in files}
+    assert any(abs(p - 2230) < 0.5 for p in back["benzonitrile"].positions)
+    r = reflib("export", "-L", str(libpath), str(tmp_path / "csv"), "--format", "csv")
+    assert r.returncode == 0 and len(list((tmp_path / "csv").glob("*.csv"))) == 2
+    r = reflib("export", "-L", str(libpath), str(tmp_path / "x"), "--format", "xls")
+    assert r.returncode == 2 and "jcamp" in r.stderr
