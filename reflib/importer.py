@@ -115,46 +115,95 @@ def _sha256(path: Path) -> str | None:
         return None
 
 
+#: Files read and peak-picked ahead, in worker processes, while earlier ones are written.
+READ_AHEAD = 32
+
+
+def load_file(path: Path):
+    """Read one file and pick its bands (runs in a worker process): (data, peaks) or an error."""
+    from reflib.io import read_spectrum
+    from reflib.library import to_peaks
+
+    try:
+        data = read_spectrum(path)
+        return data, to_peaks(data), None
+    except ReflibError as exc:
+        # exceptions cross the process boundary as (class, message, path, line): pickling
+        # would drop the keyword-only path and line
+        return None, None, (type(exc), exc.message, exc.path, exc.line)
+
+
 def run_import(
     lib,
     entries: list[ImportEntry],
     *,
     force: bool = False,
     progress: Callable[[int], object] | None = None,
+    workers: int | None = None,
 ) -> ImportReport:
-    """Add each entry in its own transaction; collect failures instead of stopping."""
-    from reflib.io import read_spectrum
+    """Add each entry in its own transaction; collect failures instead of stopping.
+
+    Files are read and peak-picked in ``workers`` processes (default one per core when there
+    are at least :data:`READ_AHEAD` files; 1 reads in this process); the writes stay in this
+    process, one transaction per file, in manifest order.
+    """
+    import os
 
     report = ImportReport()
+    todo: list[ImportEntry] = []
     for e in entries:
-        label = str(e.file.name if e.line is None else f"{e.file.name} (manifest line {e.line})")
-        try:
-            digest = _sha256(e.file)
-            if digest and not force and lib.store.spectrum_by_sha(digest):
-                report.skipped += 1
-                continue
-            data = read_spectrum(e.file)
-            name = e.name or data.meta.title or e.file.stem
-            res = lib.add(
-                data,
-                name=name,
-                smiles=e.smiles,
-                role=e.role,
-                prep=e.prep,
-                notebook=e.notebook,
-                operator=e.operator,
-                note=e.note,
-                force=force,
-                check_similar=False,
-            )
-            report.added += 1
-            report.warnings += [f"{label}: {w}" for w in res.warnings]
-        except ReflibError as exc:
-            msg = exc.message if exc.path else str(exc)
-            if exc.line is not None and exc.path:
-                msg = f"line {exc.line}: {exc.message}"
-            report.failures.append((label, msg))
-        finally:
+        digest = _sha256(e.file)
+        if digest and not force and lib.store.spectrum_by_sha(digest):
+            report.skipped += 1
             if progress:
                 progress(1)
+        else:
+            todo.append(e)
+    n_workers = workers if workers is not None else (os.cpu_count() or 1)
+    pool = None
+    if n_workers > 1 and len(todo) >= READ_AHEAD:
+        from concurrent.futures import ProcessPoolExecutor
+
+        pool = ProcessPoolExecutor(max_workers=n_workers)
+    try:
+        for start in range(0, len(todo), READ_AHEAD):
+            chunk = todo[start : start + READ_AHEAD]
+            files = [e.file for e in chunk]
+            loaded = list(pool.map(load_file, files)) if pool else [load_file(f) for f in files]
+            for e, (data, peaks, err) in zip(chunk, loaded):
+                _add_one(lib, e, data, peaks, err, force, report)
+                if progress:
+                    progress(1)
+    finally:
+        if pool is not None:
+            pool.shutdown(cancel_futures=True)
     return report
+
+
+def _add_one(lib, e: ImportEntry, data, peaks, err, force: bool, report: ImportReport) -> None:
+    label = str(e.file.name if e.line is None else f"{e.file.name} (manifest line {e.line})")
+    try:
+        if err is not None:
+            cls, message, path, line = err
+            raise cls(message, path=path, line=line)
+        name = e.name or data.meta.title or e.file.stem
+        res = lib.add(
+            data,
+            name=name,
+            smiles=e.smiles,
+            role=e.role,
+            prep=e.prep,
+            notebook=e.notebook,
+            operator=e.operator,
+            note=e.note,
+            force=force,
+            check_similar=False,
+            peaks=peaks,
+        )
+        report.added += 1
+        report.warnings += [f"{label}: {w}" for w in res.warnings]
+    except ReflibError as exc:
+        msg = exc.message if exc.path else str(exc)
+        if exc.line is not None and exc.path:
+            msg = f"line {exc.line}: {exc.message}"
+        report.failures.append((label, msg))

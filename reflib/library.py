@@ -143,6 +143,7 @@ class Library:
         force: bool = False,
         strict: bool = False,
         check_similar: bool = True,
+        peaks: PeakList | None = None,
     ) -> AddResult:
         """Add one spectrum (or typed peak list) of a confirmed compound.
 
@@ -150,6 +151,8 @@ class Library:
         preparation, say). An exact duplicate file (same SHA-256) is refused unless ``force``.
         The returned warnings name any *other* compound the new spectrum matches confidently
         (the same compound under another name, a mislabel, or an impure sample).
+        ``peaks`` passes bands already picked from ``data`` (by :func:`to_peaks`), so that
+        picking can run elsewhere, e.g. in worker processes during an import.
         """
         name = _clean_name(name)
         role_word = normalise_role(role) if role is not None else None
@@ -162,7 +165,8 @@ class Library:
                     f"this file is already in the library as spectrum {dup['id']} of "
                     f"{dup['name']!r}; use --force to add it again"
                 )
-        peaks = to_peaks(data)
+        if peaks is None:
+            peaks = to_peaks(data)
         if len(peaks) == 0:
             raise ValidationError("no bands found in this spectrum; nothing to add")
         enc = self.encoding
