@@ -350,6 +350,25 @@ def _print_search(res, explain_top: int = 3) -> None:
     typer.echo(CAUTION)
 
 
+PlotYOpt = typer.Option(
+    "absorbance", "--plot-y", help="y axis of --plot/--report: absorbance or transmittance."
+)
+
+
+def _check_pictures(plot: Path | None, report: Path | None, plot_y: str) -> None:
+    """Refuse a bad --plot/--report file name or --plot-y before any work is done."""
+    if plot is None and report is None:
+        return
+    from reflib.report import check_plot_path, check_report_path
+
+    if plot is not None:
+        check_plot_path(plot)
+    if report is not None:
+        check_report_path(report)
+    if plot_y not in ("absorbance", "transmittance"):
+        raise _usage(f"--plot-y must be absorbance or transmittance, got {plot_y!r}")
+
+
 def _expand(paths: list[Path]) -> list[Path]:
     out: list[Path] = []
     for p in paths:
@@ -375,15 +394,22 @@ def search(
         False, "--json", help="Print the JSON contract (README), one document per line."
     ),
     csv_out: Path = typer.Option(None, "--csv", help="Also write a one-line-per-query summary."),
+    plot: Path = typer.Option(
+        None, "--plot", help="Draw the unknown against its top hits (.png, .svg or .pdf)."
+    ),
+    report: Path = typer.Option(None, "--report", help="Write a self-contained HTML report."),
+    plot_y: str = PlotYOpt,
     library: Path = LibraryOpt,
 ) -> None:
     """Find which library compounds an unknown spectrum resembles, band by band.
 
     Several files (or a folder) are searched as one batch; a file that cannot be read is
-    reported and the others are still searched (exit status 1 then).
+    reported and the others are still searched (exit status 1 then). With several queries,
+    --plot and --report write one file per query, numbered in query order (crude-1.png, ...).
     """
     from reflib.io import read_spectrum
 
+    _check_pictures(plot, report, plot_y)
     paths = _expand(files)
     with _open(library) as lib:
         queries, failed = [], []
@@ -403,6 +429,18 @@ def search(
                     bar.update(len(chunk))
         else:
             results = lib.search_many(queries, prep=prep, top=top, weights=weights)
+        if plot or report:
+            from reflib.report import numbered, search_outputs
+
+            for k, (qry, res) in enumerate(zip(queries, results), start=1):
+                n = len(results)
+                written = search_outputs(
+                    lib, res, qry, y=plot_y,
+                    plot=numbered(plot, k, n) if plot else None,
+                    report=numbered(report, k, n) if report else None,
+                )  # fmt: skip
+                for w in written:
+                    typer.echo(f"wrote {w} ({res.query_file or 'query'})", err=True)
     for i, res in enumerate(results):
         if json_out:
             typer.echo(json.dumps(res.to_dict(), ensure_ascii=False))

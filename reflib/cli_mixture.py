@@ -101,7 +101,10 @@ def _read_or_entry(lib_path: Path | None, ref: str) -> tuple[Any, dict[str, Any]
 
 def register(app: typer.Typer) -> None:
     """Add ``leftover``, ``mixture`` and ``compare`` to the reflib typer app."""
-    from reflib.cli import LibraryOpt, _echo_json, _open
+    from reflib.cli import LibraryOpt, PlotYOpt, _check_pictures, _echo_json, _open
+
+    PlotOpt = typer.Option(None, "--plot", help="Draw the comparison (.png, .svg or .pdf).")
+    ReportOpt = typer.Option(None, "--report", help="Write a self-contained HTML report.")
 
     @app.command()
     def leftover(
@@ -112,15 +115,26 @@ def register(app: typer.Typer) -> None:
         ),
         prep: str = typer.Option(None, "--prep", help="The sample's preparation, e.g. nujol."),
         json_out: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
+        plot: Path = PlotOpt,
+        report: Path = ReportOpt,
+        plot_y: str = PlotYOpt,
         library: Path = LibraryOpt,
     ) -> None:
         """Is starting material left in a product, and how much of the signal is it?"""
         from reflib.io import read_spectrum
         from reflib.mixture import leftover_in_library
 
+        _check_pictures(plot, report, plot_y)
         sample = read_spectrum(file)
         with _open(library) as lib:
             res = leftover_in_library(lib, sample, start, product, prep=prep)
+            if plot or report:
+                from reflib.report import leftover_outputs
+
+                for w in leftover_outputs(
+                    lib, res, sample, plot=plot, report=report, y=plot_y, prep=prep
+                ):
+                    typer.echo(f"wrote {w}", err=True)
         if json_out:
             _echo_json(res.to_dict())
         else:
@@ -134,15 +148,26 @@ def register(app: typer.Typer) -> None:
         ),
         prep: str = typer.Option(None, "--prep", help="The sample's preparation, e.g. chcl3."),
         json_out: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
+        plot: Path = PlotOpt,
+        report: Path = ReportOpt,
+        plot_y: str = PlotYOpt,
         library: Path = LibraryOpt,
     ) -> None:
         """Explain a crude as a few library compounds, and list the bands nothing explains."""
         from reflib.io import read_spectrum
         from reflib.mixture import mixture_in_library
 
+        _check_pictures(plot, report, plot_y)
         sample = read_spectrum(file)
         with _open(library) as lib:
             res = mixture_in_library(lib, sample, max_components=max_components, prep=prep)
+            if plot or report:
+                from reflib.report import mixture_outputs
+
+                for w in mixture_outputs(
+                    lib, res, sample, plot=plot, report=report, y=plot_y, prep=prep
+                ):
+                    typer.echo(f"wrote {w}", err=True)
         if json_out:
             _echo_json(res.to_dict())
         else:
@@ -154,14 +179,23 @@ def register(app: typer.Typer) -> None:
         b: str = typer.Argument(..., help="Second spectrum: a file, or a library name or id."),
         prep: str = typer.Option(None, "--prep", help="Preparation of both, e.g. nujol."),
         json_out: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
+        plot: Path = PlotOpt,
+        report: Path = ReportOpt,
+        plot_y: str = PlotYOpt,
         library: Path = LibraryOpt,
     ) -> None:
         """Band by band between two spectra: matched (with shift), lost, new, changed."""
         from reflib.compare import compare as compare_fn
 
+        _check_pictures(plot, report, plot_y)
         da, ia = _read_or_entry(library, a)
         db, ib = _read_or_entry(library, b)
         res = compare_fn(da, db, prep=prep, a_info=ia, b_info=ib)
+        if plot or report:
+            from reflib.report import compare_outputs
+
+            for w in compare_outputs(res, da, db, plot=plot, report=report, y=plot_y):
+                typer.echo(f"wrote {w}", err=True)
         if json_out:
             _echo_json(res.to_dict())
         else:
