@@ -13,7 +13,8 @@ than any later step (see the design notes). The steps, each a pure function of a
 4. a light Gaussian smoothing (``smooth_cm1`` FWHM) and the noise of the smoothed trace from
    :func:`estimate_noise` (for transmittance input the noise is propagated point by point,
    because -log10 amplifies it where little light gets through);
-5. ``scipy.signal.find_peaks`` with a prominence of ``min_snr`` times that noise and a
+5. local maxima (:func:`reflib.peakfind.find_peaks`, the definitions of SciPy's
+   ``scipy.signal.find_peaks``) with a prominence of ``min_snr`` times that noise and a
    minimum separation in cm-1;
 6. a parabola through the three top points for a sub-grid position, ``peak_widths`` at half
    height above the baseline for the FWHM (cm-1), the baseline-corrected height for the relative
@@ -58,10 +59,10 @@ import warnings
 from collections.abc import Sequence
 
 import numpy as np
-from scipy import ndimage, signal
-from scipy.linalg import solveh_banded
 
+from reflib import filters1d
 from reflib.errors import ValidationError
+from reflib.peakfind import find_peaks, peak_widths
 from reflib.spectrum import MIN_TRANSMITTANCE, PeakList, Spectrum, strength_word
 
 #: Baseline methods understood by :func:`baseline` and :func:`pick_peaks`.
@@ -149,12 +150,12 @@ def _points(width_cm1: float, step: float) -> int:
 
 def _rolling_baseline(y: np.ndarray, step: float, window_cm1: float, smooth_cm1: float):
     size = _points(window_cm1, step)
-    opened = ndimage.maximum_filter1d(
-        ndimage.minimum_filter1d(y, size, mode="nearest"), size, mode="nearest"
+    opened = filters1d.maximum_filter1d(
+        filters1d.minimum_filter1d(y, size, mode="nearest"), size, mode="nearest"
     )
     smooth = _points(smooth_cm1, step)
     if smooth > 1:
-        smoothed = ndimage.uniform_filter1d(opened, smooth, mode="nearest")
+        smoothed = filters1d.uniform_filter1d(opened, smooth, mode="nearest")
         # A moving average can rise above the data where the opening has a sharp corner;
         # the baseline never passes above the trace.
         return np.minimum(smoothed, y)
@@ -173,6 +174,8 @@ def _als_baseline(
     n = y.size
     if n < 4:
         return np.full(n, float(np.min(y)))
+    from scipy.linalg import solveh_banded  # only here: scipy.linalg costs ~0.3 s to import
+
     lam = (window_cm1 / step / (2.0 * np.pi)) ** 4
     # D'D for the second-difference matrix D, as upper bands for solveh_banded.
     main = np.full(n, 6.0)
@@ -478,10 +481,10 @@ def pick_peaks(
     corrected = a - _baseline_for(a, x, baseline, window_cm1)
     sigma_pts = smooth_cm1 / (2.0 * np.sqrt(2.0 * np.log(2.0))) / step
     if sigma_pts > 0.3:
-        ys = ndimage.gaussian_filter1d(corrected, sigma_pts, mode="nearest")
+        ys = filters1d.gaussian_filter1d(corrected, sigma_pts, mode="nearest")
         impulse = np.zeros(8 * int(np.ceil(sigma_pts)) + 9)
         impulse[impulse.size // 2] = 1.0
-        gain = float(np.sqrt(np.sum(ndimage.gaussian_filter1d(impulse, sigma_pts) ** 2)))
+        gain = float(np.sqrt(np.sum(filters1d.gaussian_filter1d(impulse, sigma_pts) ** 2)))
     else:
         ys, gain, sigma_pts = corrected, 1.0, 0.0
 
@@ -499,7 +502,7 @@ def pick_peaks(
 
     runs = saturated_runs(a, from_transmittance=from_t, saturation_t=saturation_t)
     if not from_t:
-        smooth_a = ndimage.gaussian_filter1d(a, sigma_pts) if sigma_pts > 0 else a
+        smooth_a = filters1d.gaussian_filter1d(a, sigma_pts) if sigma_pts > 0 else a
         runs = _merge_runs(runs, flat_tops(smooth_a, ys, 4.0 * float(noise.min())))
     margin = max(1, int(np.ceil(3 * sigma_pts)))
     for start, stop in runs:
@@ -507,7 +510,7 @@ def pick_peaks(
         ys[lo:hi] = np.max(ys[lo:hi])
 
     distance = max(1, int(round(min_separation_cm1 / step)))
-    idx, props = signal.find_peaks(ys, prominence=min_snr * float(noise.min()), distance=distance)
+    idx, props = find_peaks(ys, prominence=min_snr * float(noise.min()), distance=distance)
     if idx.size == 0:
         return empty
     keep = props["prominences"] >= min_snr * noise[idx]
@@ -602,7 +605,7 @@ def _fwhm(
     rb = np.maximum(rb, idx)
     with warnings.catch_warnings():  # zero widths become NaN below
         warnings.filterwarnings("ignore", message="some peaks have a width of 0")
-        _, half, l_ips, r_ips = signal.peak_widths(
+        _, half, l_ips, r_ips = peak_widths(
             ys, idx, rel_height=0.5, prominence_data=(heights, lb, rb)
         )
     grid = np.arange(n, dtype=float)
