@@ -304,7 +304,7 @@ def _mask_strip(ax, masks: Sequence[_Mask]) -> None:
         )
 
 
-def _key_lines(masks: Sequence[_Mask], width: int = 78) -> list[list[str]]:
+def _key_lines(masks: Sequence[_Mask], width: int = 72) -> list[list[str]]:
     """The key's entries, each a list of lines (the reason wrapped under its head)."""
     entries = []
     for m in masks:
@@ -484,14 +484,14 @@ def _draw(
     d_lo, d_hi = (lo, top) if tr.down else (bot, top)
     pad = 0.05 * (d_hi - d_lo)
     ax.set_yticks([t for t in ax.get_yticks() if d_lo - pad <= t <= d_hi + pad])
-    if label:
+    if label:  # where the trace is empty: above the bands, below them for transmittance
         ax.text(
             0.006,
-            0.95,
+            0.06 if tr.down else 0.95,
             label,
             transform=ax.transAxes,
             ha="left",
-            va="top",
+            va="bottom" if tr.down else "top",
             fontsize=9.5,
             color=colour,
             bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.85, "pad": 1.5},
