@@ -37,14 +37,16 @@ import zlib
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import sqlite_utils
 
 from reflib.encode import DEFAULT_ENCODING, Encoding
 from reflib.errors import LibraryError, NotFoundError, ValidationError
 from reflib.spectrum import Metadata, PeakList, Spectrum
+
+if TYPE_CHECKING:
+    import sqlite_utils
 
 #: Schema this reflib writes. 1: the first layout. 2: meta rows library_id and reflib_version;
 #: peaks indexed by (spectrum_id, position), which serves both the lookup and the ordering of
@@ -139,8 +141,24 @@ class Store:
     def __init__(self, conn: sqlite3.Connection, path: str):
         self.conn = conn
         self.path = path
-        self.db = sqlite_utils.Database(conn)
+        # What sqlite_utils.Database sets on a connection it wraps, set here so the connection
+        # is the same whether or not :attr:`db` is ever made.
+        conn.execute("PRAGMA recursive_triggers = ON")
+        self._db: sqlite_utils.Database | None = None
         self._txn: str | None = None  # None, "read" or "write"
+
+    @property
+    def db(self) -> sqlite_utils.Database:
+        """The connection as a :class:`sqlite_utils.Database`, made on first use.
+
+        Only writes that create tables or insert rows need it; importing sqlite_utils costs
+        about 0.05-0.2 s, which a search (a read) does not pay.
+        """
+        if self._db is None:
+            import sqlite_utils
+
+            self._db = sqlite_utils.Database(self.conn)
+        return self._db
 
     # --- opening -------------------------------------------------------------------------------
 
