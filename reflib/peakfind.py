@@ -19,7 +19,11 @@ published gas-phase spectra and on random traces):
   first point at or below that level (never past the base), interpolated linearly between that
   point and its neighbour towards the maximum.
 
-The trace must be free of NaN (the picker's traces are). Loops run over maxima, not points.
+The trace must be free of NaN (the picker's traces are). Bases and crossings are found for all
+maxima at once by binary lifting over sparse tables of block maxima and minima (``log2 n``
+array steps, ``n log2 n`` memory); only the distance rule loops, once per maximum, in plain
+Python. On the gas-phase spectra a whole pick takes about 1.5 times as long as with SciPy's
+compiled loops (3.4 against 2.3 ms), a price paid once per spectrum for 0.7 s saved per start.
 """
 
 from __future__ import annotations
@@ -65,19 +69,18 @@ def select_by_distance(peaks: np.ndarray, heights: np.ndarray, distance: float) 
     peaks = np.asarray(peaks, dtype=np.intp)
     heights = np.asarray(heights, dtype=float)
     dist = int(np.ceil(distance))
-    keep = np.ones(peaks.size, dtype=bool)
     if peaks.size < 2 or dist <= 1:
-        return keep
+        return np.ones(peaks.size, dtype=bool)
+    # Neighbours within the distance of each maximum: peaks[lo[j]:j] and peaks[j + 1:hi[j]].
+    lo = np.searchsorted(peaks, peaks - dist, side="right").tolist()
+    hi = np.searchsorted(peaks, peaks + dist, side="left").tolist()
+    keep = bytearray(b"\x01") * peaks.size
     order = np.argsort(heights)  # the same call as the reference, so ties fall the same way
-    for j in order[::-1]:  # one step per maximum
-        if not keep[j]:
-            continue
-        p = peaks[j]
-        lo = int(np.searchsorted(peaks, p - dist, side="right"))
-        hi = int(np.searchsorted(peaks, p + dist, side="left"))
-        keep[lo:j] = False
-        keep[j + 1 : hi] = False
-    return keep
+    for j in order[::-1].tolist():  # one step per maximum, plain Python: no array per step
+        if keep[j]:
+            keep[lo[j] : j] = bytes(j - lo[j])
+            keep[j + 1 : hi[j]] = bytes(hi[j] - j - 1)
+    return np.frombuffer(bytes(keep), dtype=np.uint8).astype(bool)
 
 
 def peak_prominences(x: np.ndarray, peaks: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -89,19 +92,20 @@ def peak_prominences(x: np.ndarray, peaks: np.ndarray) -> tuple[np.ndarray, np.n
     """
     x = _as_trace(x)
     peaks = _as_peaks(peaks, x.size)
-    n = x.size
-    prominences = np.empty(peaks.size)
-    left_bases = np.empty(peaks.size, dtype=np.intp)
-    right_bases = np.empty(peaks.size, dtype=np.intp)
-    for k, p in enumerate(peaks.tolist()):  # one step per maximum
-        h = x[p]
-        start = _last_above(x, p, h) + 1
-        stop = _first_above(x, p, h, n)
-        left = x[start : p + 1]
-        lb = start + (left.size - 1 - int(np.argmin(left[::-1])))  # lowest, nearest the peak
-        rb = p + int(np.argmin(x[p:stop]))
-        left_bases[k], right_bases[k] = lb, rb
-        prominences[k] = h - max(x[lb], x[rb])
+    if peaks.size == 0:
+        empty = np.zeros(0, dtype=np.intp)
+        return np.zeros(0), empty, empty.copy()
+    table = _RangeTable(x)
+    h = x[peaks]
+    # The stretch around each peak up to the nearest higher point on either side.
+    start = table.reach_left(peaks, h, np.zeros_like(peaks), "max")
+    stop = table.reach_right(peaks + 1, h, np.full_like(peaks, x.size), "max")
+    # Lowest point on each side; of equal lowest points, the one nearest the peak.
+    left_min = table.min_between(start, peaks + 1)
+    right_min = table.min_between(peaks, stop)
+    left_bases = table.reach_left(peaks + 1, left_min, start, "min") - 1
+    right_bases = table.reach_right(peaks, right_min, stop, "min")
+    prominences = h - np.maximum(x[left_bases], x[right_bases])
     return prominences, left_bases, right_bases
 
 
@@ -165,34 +169,33 @@ def peak_widths(
             f"{prom.size}, {lbs.size} and {rbs.size}"
         )
     n = x.size
-    m = peaks.size
-    widths = np.empty(m)
-    heights = np.empty(m)
-    left_ips = np.empty(m)
-    right_ips = np.empty(m)
-    for k in range(m):  # one step per maximum
-        p, lb, rb = int(peaks[k]), int(lbs[k]), int(rbs[k])
-        if not 0 <= lb <= p <= rb < n:
-            raise ValidationError(
-                f"prominence data is invalid for peak {p}: bases {lb} and {rb} must enclose it "
-                f"within the trace of {n} points"
-            )
-        level = x[p] - prom[k] * rel_height
-        heights[k] = level
-        # Left: the last point at or below the level in (lb, p], else the base itself.
-        below = np.flatnonzero(~(level < x[lb + 1 : p + 1]))
-        i = lb + 1 + int(below[-1]) if below.size else lb
-        left = float(i)
-        if x[i] < level:
-            left += (level - x[i]) / (x[i + 1] - x[i])
-        # Right: the first point at or below the level in [p, rb), else the base itself.
-        below = np.flatnonzero(~(level < x[p:rb]))
-        i = p + int(below[0]) if below.size else rb
-        right = float(i)
-        if x[i] < level:
-            right -= (level - x[i]) / (x[i - 1] - x[i])
-        left_ips[k], right_ips[k] = left, right
-        widths[k] = right - left
+    peaks = peaks.astype(np.intp)
+    lbs = lbs.astype(np.intp)
+    rbs = rbs.astype(np.intp)
+    bad = ~((lbs >= 0) & (lbs <= peaks) & (peaks <= rbs) & (rbs < n))
+    if bad.any():
+        k = int(np.flatnonzero(bad)[0])
+        raise ValidationError(
+            f"prominence data is invalid for peak {int(peaks[k])}: bases {int(lbs[k])} and "
+            f"{int(rbs[k])} must enclose it within the trace of {n} points"
+        )
+    heights = x[peaks] - prom * rel_height
+    if peaks.size == 0:
+        return np.zeros(0), heights, np.zeros(0), np.zeros(0)
+    table = _RangeTable(x)
+    # Left: the last point at or below the level in (base, peak], else the base itself.
+    i = table.reach_left(peaks + 1, heights, lbs + 1, "min") - 1
+    xi = x[i]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        step = (heights - xi) / (x[np.minimum(i + 1, n - 1)] - xi)
+    left_ips = np.where(xi < heights, i + step, i.astype(float))
+    # Right: the first point at or below the level in [peak, base), else the base itself.
+    i = table.reach_right(peaks, heights, rbs, "min")
+    xi = x[i]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        step = (heights - xi) / (x[np.maximum(i - 1, 0)] - xi)
+    right_ips = np.where(xi < heights, i - step, i.astype(float))
+    widths = right_ips - left_ips
     if np.any(widths == 0):
         warnings.warn("some peaks have a width of 0", RuntimeWarning, stacklevel=2)
     return widths, heights, left_ips, right_ips
@@ -220,31 +223,66 @@ def _as_peaks(peaks: np.ndarray, n: int) -> np.ndarray:
     return peaks.astype(np.intp, copy=False)
 
 
-_FIRST_WINDOW = 32
+class _RangeTable:
+    """Sparse tables of a trace: max and min of every block of 2**k points (k = 0, 1, ...).
 
+    They answer, for many positions at once and in a few array operations per level, "how far
+    can one go from here while every point stays at or below (``"max"``) or strictly above
+    (``"min"``) a level" and "what is the lowest value between two indices". Build cost
+    ``n log2 n``; blocks that would run past the end hold -inf (max) or +inf (min).
+    """
 
-def _last_above(x: np.ndarray, p: int, h: float) -> int:
-    """Index of the nearest point left of ``p`` that is not at or below ``h`` (-1 if none)."""
-    hi, width = p, _FIRST_WINDOW
-    while hi > 0:  # windows doubling outwards: cost grows with the distance, not the trace
-        lo = max(0, hi - width)
-        above = np.flatnonzero(~(x[lo:hi] <= h))
-        if above.size:
-            return lo + int(above[-1])
-        hi, width = lo, 2 * width
-    return -1
+    def __init__(self, x: np.ndarray):
+        n = x.size
+        self.n = n
+        self.levels = max(1, int(n).bit_length())
+        self.max = np.empty((self.levels, n))
+        self.min = np.empty((self.levels, n))
+        self.max[0], self.min[0] = x, x
+        for k in range(1, self.levels):
+            half = 1 << (k - 1)
+            m = max(n - (1 << k) + 1, 0)
+            np.maximum(self.max[k - 1, :m], self.max[k - 1, half : half + m], out=self.max[k, :m])
+            np.minimum(self.min[k - 1, :m], self.min[k - 1, half : half + m], out=self.min[k, :m])
+            self.max[k, m:] = -np.inf
+            self.min[k, m:] = np.inf
 
+    def _blocked(self, kind: str, k: int, start: np.ndarray, level: np.ndarray) -> np.ndarray:
+        """True where the block of 2**k points from ``start`` lets one pass."""
+        safe = np.minimum(np.maximum(start, 0), self.n - 1)
+        if kind == "max":  # pass while every point is at or below the level
+            return self.max[k, safe] <= level
+        return self.min[k, safe] > level  # pass while every point is above the level
 
-def _first_above(x: np.ndarray, p: int, h: float, n: int) -> int:
-    """Index of the nearest point right of ``p`` that is not at or below ``h`` (``n`` if none)."""
-    lo, width = p + 1, _FIRST_WINDOW
-    while lo < n:
-        hi = min(n, lo + width)
-        above = np.flatnonzero(~(x[lo:hi] <= h))
-        if above.size:
-            return lo + int(above[0])
-        lo, width = hi, 2 * width
-    return n
+    def reach_left(
+        self, end: np.ndarray, level: np.ndarray, floor: np.ndarray, kind: str
+    ) -> np.ndarray:
+        """Smallest ``s >= floor`` with every point of ``x[s:end]`` passing (see the class)."""
+        cur = np.array(end, dtype=np.intp)
+        for k in range(self.levels - 1, -1, -1):
+            w = 1 << k
+            ok = (cur - w >= floor) & self._blocked(kind, k, cur - w, level)
+            cur = np.where(ok, cur - w, cur)
+        return cur
+
+    def reach_right(
+        self, start: np.ndarray, level: np.ndarray, ceiling: np.ndarray, kind: str
+    ) -> np.ndarray:
+        """Largest ``e <= ceiling`` with every point of ``x[start:e]`` passing."""
+        cur = np.array(start, dtype=np.intp)
+        for k in range(self.levels - 1, -1, -1):
+            w = 1 << k
+            ok = (cur + w <= ceiling) & self._blocked(kind, k, cur, level)
+            cur = np.where(ok, cur + w, cur)
+        return cur
+
+    def min_between(self, start: np.ndarray, stop: np.ndarray) -> np.ndarray:
+        """Lowest value of ``x[start:stop]`` for each pair (stop > start)."""
+        length = stop - start
+        k = np.floor(np.log2(length)).astype(np.intp)
+        k = np.where((1 << (k + 1)) <= length, k + 1, k)  # guard against log2 rounding
+        k = np.where((1 << k) > length, k - 1, k)
+        return np.minimum(self.min[k, start], self.min[k, stop - (1 << k)])
 
 
 __all__: Sequence[str] = [

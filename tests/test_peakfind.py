@@ -142,3 +142,34 @@ def test_bad_arguments_are_refused():
         peak_widths(x, np.array([1]), rel_height=-1.0)
     with pytest.raises(ValidationError, match="invalid for peak 1"):
         peak_widths(x, np.array([1]), prominence_data=(np.ones(1), np.array([2]), np.array([2])))
+
+
+def test_prominences_of_any_points_match_the_reference():
+    # scipy.signal.peak_prominences accepts any indices, not only local maxima.
+    rng = np.random.default_rng(7)
+    for _, x in _traces(8, 150):
+        idx = np.unique(rng.integers(0, x.size, int(rng.integers(1, 20))))
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            ref = signal.peak_prominences(x, idx)
+        for a, b in zip(peak_prominences(x, idx), ref):
+            assert np.array_equal(a, b)
+
+
+def test_widths_with_bases_and_heights_given_by_the_caller_match_the_reference():
+    # As the picker calls it: its own heights and bases (valleys between neighbouring bands).
+    rng = np.random.default_rng(9)
+    for _, x in _traces(10, 150):
+        idx, _ = signal.find_peaks(x)
+        if idx.size == 0:
+            continue
+        lb = np.array([int(rng.integers(0, p + 1)) for p in idx])
+        rb = np.array([int(rng.integers(p, x.size)) for p in idx])
+        prom = rng.uniform(0.0, 2.0, idx.size) * (np.ptp(x) + 1e-3)
+        rel = float(rng.choice([0.25, 0.5, 1.0]))
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            ref = signal.peak_widths(x, idx, rel_height=rel, prominence_data=(prom, lb, rb))
+            ours = peak_widths(x, idx, rel_height=rel, prominence_data=(prom, lb, rb))
+        for a, b in zip(ours, ref):
+            assert np.array_equal(a, b)
