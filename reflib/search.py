@@ -323,7 +323,7 @@ def match_bands(
 
     Broad bands match within half the wider band's width. Returns (query index, ref index) pairs.
     """
-    from scipy.optimize import linear_sum_assignment
+    from reflib.assignment import linear_sum_assignment
 
     if len(query) == 0 or len(ref) == 0:
         return []
