@@ -289,20 +289,25 @@ def score_index(
     The weighted norm of a group's references depends only on the weight vector, so it is
     computed once per (group, weights) and kept on the index: after the first query of a
     preparation, a query costs one pass over the matrix. All queries share ``query_prep``,
-    ``query_range`` and ``profile``. Returns (n, m).
+    ``query_range`` and ``profile``. Returns (n, m) float32 scores.
     """
     q = np.atleast_2d(np.asarray(q, dtype=np.float64))
-    scores = np.zeros((index.size, q.shape[0]), dtype=np.float64)
+    scores = np.zeros((index.size, q.shape[0]), dtype=np.float32)
     for g in index.groups:
         w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile)
         rn = _group_norms(index, g, w)
         wq = (q * w).astype(np.float32).T.copy()
         qn = np.sqrt(np.einsum("ij,ij->i", q * w, q))
-        num = np.asarray(index.matrix[g.start : g.stop]) @ wq
-        den = rn[:, None] * qn[None, :]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            s = np.where(den > 0, num / np.where(den > 0, den, 1.0), 0.0)
-        scores[g.start : g.stop] = np.clip(s, 0.0, 1.0)
+        with np.errstate(divide="ignore"):
+            inv_r = np.where(rn > 0, 1.0 / rn, 0.0).astype(np.float32)
+            inv_q = np.where(qn > 0, 1.0 / qn, 0.0).astype(np.float32)
+        # float32 and in place: for a batch the (refs x queries) block is the big array
+        block = np.matmul(
+            np.asarray(index.matrix[g.start : g.stop]), wq, out=scores[g.start : g.stop]
+        )
+        block *= inv_r[:, None]
+        block *= inv_q[None, :]
+        np.clip(block, 0.0, 1.0, out=block)
     return scores
 
 
