@@ -40,8 +40,7 @@ from reflib.library import (
 )
 from reflib.spectrum import PeakList, Spectrum
 from reflib.store import (
-    MAX_STORED_PEAKS,
-    MAX_STORED_POINTS,
+    check_storable,
     normalise_role,
     now,
     pack_array,
@@ -173,20 +172,9 @@ def _prepare(
     tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(data.meta.prep)]))
     if len(peaks) == 0:
         raise ValidationError("no bands found in this spectrum; nothing to add")
-    if isinstance(data, Spectrum) and data.x.size > MAX_STORED_POINTS:
-        raise ValidationError(
-            f"spectrum has {data.x.size} points; a library stores at most "
-            f"{MAX_STORED_POINTS} (resample it to a coarser spacing)"
-        )
-    if len(peaks) > MAX_STORED_PEAKS:
-        raise ValidationError(
-            f"peak list has {len(peaks)} bands; a library stores at most {MAX_STORED_PEAKS} "
-            "per spectrum"
-        )
     enc = lib.encoding
     vector = encode(comparable_peaks(peaks, tokens, enc), enc)
-    if vector.ndim != 1 or not np.all(np.isfinite(vector)):
-        raise ValidationError("the encoded vector is not a finite one-dimensional array")
+    check_storable(data, peaks, vector)
     smiles = item.get("smiles")
     structure = _structure(smiles) if smiles else None
     warnings: list[str] = []

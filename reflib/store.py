@@ -135,6 +135,25 @@ class VectorSet:
     matrix: np.ndarray  # (n, bins) float32
 
 
+def check_storable(data: Spectrum | PeakList, peaks: PeakList, vector: np.ndarray) -> None:
+    """Refuse what a library does not store: a full spectrum of more than
+    :data:`MAX_STORED_POINTS` points, a peak list of more than :data:`MAX_STORED_PEAKS` bands,
+    a vector that is not a finite one-dimensional array."""
+    if isinstance(data, Spectrum) and data.x.size > MAX_STORED_POINTS:
+        raise ValidationError(
+            f"spectrum has {data.x.size} points; a library stores at most "
+            f"{MAX_STORED_POINTS} (resample it to a coarser spacing)"
+        )
+    if len(peaks) > MAX_STORED_PEAKS:
+        raise ValidationError(
+            f"peak list has {len(peaks)} bands; a library stores at most {MAX_STORED_PEAKS} "
+            "per spectrum"
+        )
+    vec = np.asarray(vector)
+    if vec.ndim != 1 or not np.all(np.isfinite(vec)):
+        raise ValidationError("the encoded vector is not a finite one-dimensional array")
+
+
 class Store:
     """Low-level access to one library file. Use :class:`reflib.library.Library` instead."""
 
@@ -499,19 +518,7 @@ class Store:
         Refuses a full spectrum of more than :data:`MAX_STORED_POINTS` points and a peak list of
         more than :data:`MAX_STORED_PEAKS` bands, and a vector that does not fit the encoding.
         """
-        if isinstance(data, Spectrum) and data.x.size > MAX_STORED_POINTS:
-            raise ValidationError(
-                f"spectrum has {data.x.size} points; a library stores at most "
-                f"{MAX_STORED_POINTS} (resample it to a coarser spacing)"
-            )
-        if len(peaks) > MAX_STORED_PEAKS:
-            raise ValidationError(
-                f"peak list has {len(peaks)} bands; a library stores at most {MAX_STORED_PEAKS} "
-                "per spectrum"
-            )
-        vec = np.asarray(vector)
-        if vec.ndim != 1 or not np.all(np.isfinite(vec)):
-            raise ValidationError("the encoded vector is not a finite one-dimensional array")
+        check_storable(data, peaks, vector)
         meta = data.meta
         rec: dict[str, Any] = {
             "compound_id": compound_id,
