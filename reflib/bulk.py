@@ -40,11 +40,14 @@ from reflib.library import (
 )
 from reflib.spectrum import PeakList, Spectrum
 from reflib.store import (
+    PEAKS_INSERT,
+    VECTORS_INSERT,
     check_storable,
     normalise_role,
     now,
-    pack_array,
     pack_vector,
+    peak_rows,
+    spectrum_row,
 )
 
 Row = dict[str, Any]
@@ -208,7 +211,7 @@ def _add_chunk(
         compound_rows: list[dict[str, Any]] = []
         role_updates: list[tuple[str, int]] = []
         spectrum_rows: list[dict[str, Any]] = []
-        peak_rows: list[tuple] = []
+        all_peaks: list[tuple] = []
         vector_rows: list[tuple] = []
         results = []
         for p in prepared:
@@ -242,36 +245,15 @@ def _add_chunk(
             next_sid += 1
             sid = next_sid
             spectrum_rows.append(_spectrum_row(sid, cid, p, new_compound))
-            peak_rows += _peak_rows(sid, p.peaks)
+            all_peaks += peak_rows(sid, p.peaks)
             vector_rows.append((sid, enc_key, pack_vector(p.vector)))
             results.append(AddResult(cid, sid, p.name, new_compound, p.warnings))
         _insert_rows(conn, "compounds", compound_rows)
         conn.executemany("UPDATE compounds SET role = ? WHERE id = ?", role_updates)
         _insert_rows(conn, "spectra", spectrum_rows)
-        conn.executemany(
-            "INSERT INTO peaks(spectrum_id, position, intensity, width, strength, broad, shoulder)"
-            " VALUES (?, ?, ?, ?, ?, ?, ?)",
-            peak_rows,
-        )
-        conn.executemany(
-            "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)", vector_rows
-        )
+        conn.executemany(PEAKS_INSERT, all_peaks)
+        conn.executemany(VECTORS_INSERT, vector_rows)
     return results
-
-
-def _peak_rows(sid: int, peaks) -> list[tuple]:
-    """The peaks rows of :meth:`Store.insert_spectrum`, from the arrays (no Peak objects)."""
-    return [
-        (sid, pos, inten, None if w != w else w, word, int(b), int(sh))
-        for pos, inten, w, word, b, sh in zip(
-            peaks.positions.tolist(),
-            peaks.intensities.tolist(),
-            peaks.widths.tolist(),
-            peaks.strengths,
-            peaks.broad.tolist(),
-            peaks.shoulder.tolist(),
-        )
-    ]
 
 
 def _refuse_duplicates(lib: Library, prepared: list[_Prepared]) -> None:
@@ -369,38 +351,15 @@ def _compound_row(cid: int, p: _Prepared) -> dict[str, Any]:
 
 
 def _spectrum_row(sid: int, cid: int, p: _Prepared, new_compound: bool) -> dict[str, Any]:
-    """The spectra row :meth:`Store.insert_spectrum` writes."""
-    data = p.data
-    meta = data.meta
-    note = p.item.get("note")
-    rec: dict[str, Any] = {
-        "id": sid,
-        "compound_id": cid,
-        "prep": ",".join(p.tokens),
-        "kind": "spectrum" if isinstance(data, Spectrum) else "peaks",
-        "resolution": meta.resolution,
-        "source_file": meta.source_file,
-        "sha256": meta.sha256,
-        "meta": json.dumps(meta.to_dict(), ensure_ascii=False, default=str),
-        "acquired_at": None,
-        "operator": p.item.get("operator"),
-        "notes": note if not new_compound else None,
-        "added_at": now(),
-        "lo_cm1": None,
-        "hi_cm1": None,
-        "y_kind": None,
-        "x": None,
-        "y": None,
-    }
-    if isinstance(data, Spectrum):
-        rec.update(
-            lo_cm1=float(data.x[0]),
-            hi_cm1=float(data.x[-1]),
-            y_kind=data.y_kind,
-            x=pack_array(data.x),
-            y=pack_array(data.y),
-        )
-    return rec
+    """The spectra row :meth:`Store.insert_spectrum` writes, with its id."""
+    rec = spectrum_row(
+        cid,
+        p.data,
+        prep=p.tokens,
+        operator=p.item.get("operator"),
+        notes=p.item.get("note") if not new_compound else None,
+    )
+    return {"id": sid, **rec}
 
 
 def _insert_rows(conn, table: str, rows: list[dict[str, Any]]) -> None:

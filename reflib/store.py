@@ -135,6 +135,68 @@ class VectorSet:
     matrix: np.ndarray  # (n, bins) float32
 
 
+PEAKS_INSERT = (
+    "INSERT INTO peaks(spectrum_id, position, intensity, width, strength, broad, shoulder)"
+    " VALUES (?, ?, ?, ?, ?, ?, ?)"
+)
+VECTORS_INSERT = "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)"
+
+
+def spectrum_row(
+    compound_id: int,
+    data: Spectrum | PeakList,
+    *,
+    prep: list[str],
+    operator: str | None = None,
+    notes: str | None = None,
+    acquired_at: str | None = None,
+) -> dict[str, Any]:
+    """The ``spectra`` row of one spectrum or peak list (without its id)."""
+    meta = data.meta
+    rec: dict[str, Any] = {
+        "compound_id": compound_id,
+        "prep": ",".join(prep),
+        "kind": "spectrum" if isinstance(data, Spectrum) else "peaks",
+        "resolution": meta.resolution,
+        "source_file": meta.source_file,
+        "sha256": meta.sha256,
+        "meta": json.dumps(meta.to_dict(), ensure_ascii=False, default=str),
+        "acquired_at": acquired_at,
+        "operator": operator,
+        "notes": notes,
+        "added_at": now(),
+        "lo_cm1": None,
+        "hi_cm1": None,
+        "y_kind": None,
+        "x": None,
+        "y": None,
+    }
+    if isinstance(data, Spectrum):
+        rec.update(
+            lo_cm1=float(data.x[0]),
+            hi_cm1=float(data.x[-1]),
+            y_kind=data.y_kind,
+            x=pack_array(data.x),
+            y=pack_array(data.y),
+        )
+    return rec
+
+
+def peak_rows(spectrum_id: int, peaks: PeakList) -> list[tuple]:
+    """The ``peaks`` rows of one peak list, in :data:`PEAKS_INSERT` column order."""
+    return [
+        (spectrum_id, pos, inten, None if w != w else w, word, int(b), int(sh))
+        for pos, inten, w, word, b, sh in zip(
+            peaks.positions.tolist(),
+            peaks.intensities.tolist(),
+            peaks.widths.tolist(),
+            peaks.strengths,
+            peaks.broad.tolist(),
+            peaks.shoulder.tolist(),
+        )
+    ]
+
+
 def check_storable(data: Spectrum | PeakList, peaks: PeakList, vector: np.ndarray) -> None:
     """Refuse what a library does not store: a full spectrum of more than
     :data:`MAX_STORED_POINTS` points, a peak list of more than :data:`MAX_STORED_PEAKS` bands,
@@ -519,49 +581,17 @@ class Store:
         more than :data:`MAX_STORED_PEAKS` bands, and a vector that does not fit the encoding.
         """
         check_storable(data, peaks, vector)
-        meta = data.meta
-        rec: dict[str, Any] = {
-            "compound_id": compound_id,
-            "prep": ",".join(prep),
-            "kind": "spectrum" if isinstance(data, Spectrum) else "peaks",
-            "resolution": meta.resolution,
-            "source_file": meta.source_file,
-            "sha256": meta.sha256,
-            "meta": json.dumps(meta.to_dict(), ensure_ascii=False, default=str),
-            "acquired_at": acquired_at,
-            "operator": operator,
-            "notes": notes,
-            "added_at": now(),
-        }
-        if isinstance(data, Spectrum):
-            rec.update(
-                lo_cm1=float(data.x[0]),
-                hi_cm1=float(data.x[-1]),
-                y_kind=data.y_kind,
-                x=pack_array(data.x),
-                y=pack_array(data.y),
-            )
+        rec = spectrum_row(
+            compound_id,
+            data,
+            prep=prep,
+            operator=operator,
+            notes=notes,
+            acquired_at=acquired_at,
+        )
         sid = int(self.db["spectra"].insert(rec).last_pk)
-        self.conn.executemany(
-            "INSERT INTO peaks(spectrum_id, position, intensity, width, strength, broad, shoulder)"
-            " VALUES (?, ?, ?, ?, ?, ?, ?)",
-            [
-                (
-                    sid,
-                    p.position,
-                    p.intensity,
-                    None if np.isnan(p.width) else p.width,
-                    p.strength,
-                    int(p.broad),
-                    int(p.shoulder),
-                )
-                for p in peaks
-            ],
-        )
-        self.conn.execute(
-            "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)",
-            (sid, encoding_key, pack_vector(vector)),
-        )
+        self.conn.executemany(PEAKS_INSERT, peak_rows(sid, peaks))
+        self.conn.execute(VECTORS_INSERT, (sid, encoding_key, pack_vector(vector)))
         return sid
 
     def spectrum_record(self, spectrum_id: int) -> dict[str, Any]:
