@@ -73,17 +73,18 @@ def library_key(store: Store) -> dict[str, Any]:
     }
 
 
+def range_key(lo: float | None, hi: float | None) -> tuple[float | None, float | None]:
+    """A covered range (cm-1) rounded to 10 cm-1: spectra whose ranges round alike share one
+    comparison group (and one weight vector)."""
+    return (
+        None if lo is None else round(lo / 10) * 10.0,
+        None if hi is None else round(hi / 10) * 10.0,
+    )
+
+
 def _group_rows(vs: VectorSet) -> tuple[np.ndarray, list[Group]]:
     """Row order that makes each comparison group contiguous, and the groups."""
-    keys = []
-    for p, (lo, hi) in zip(vs.preps, vs.ranges):
-        keys.append(
-            (
-                tuple(sorted(p)),
-                None if lo is None else round(lo / 10) * 10.0,
-                None if hi is None else round(hi / 10) * 10.0,
-            )
-        )
+    keys = [(tuple(sorted(p)), *range_key(lo, hi)) for p, (lo, hi) in zip(vs.preps, vs.ranges)]
     distinct = sorted(set(keys), key=lambda k: (k[0], -1 if k[1] is None else k[1], k[2] or -1))
     gid = {k: i for i, k in enumerate(distinct)}
     codes = np.array([gid[k] for k in keys], dtype=np.int64)

@@ -24,6 +24,7 @@ import numpy as np
 from reflib import prep as prep_mod
 from reflib.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.errors import ValidationError
+from reflib.index import range_key
 from reflib.search import (
     DEFAULT_RULE,
     Hit,
@@ -324,11 +325,13 @@ class Library:
         for qry in queries:
             tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
             peaks = comparable_peaks(to_peaks(qry), tokens, self.encoding)
-            prepared.append((qry, peaks, data_range(qry), tokens))
+            prepared.append((qry.meta.source_file, peaks, data_range(qry), tokens))
         with self.store.read():  # index and the hits' bands from one snapshot of the file
             return self._search_prepared(prepared, top=top, profile=weights)
 
     def _search_prepared(self, prepared: list, *, top: int, profile: str | None) -> list:
+        """Score and explain ``prepared`` queries: (source file, comparable peaks, covered
+        range, preparation tokens) each."""
         from reflib.search import score_index
 
         enc = self.encoding
@@ -337,7 +340,7 @@ class Library:
         results: list[SearchResult | None] = [None] * len(prepared)
         batches: dict[tuple, list[int]] = {}
         for i, (_, _, qrange, tokens) in enumerate(prepared):
-            key = (tuple(tokens), _round_range(qrange))
+            key = (tuple(tokens), range_key(*qrange))
             batches.setdefault(key, []).append(i)
         for (tokens, _), all_members in batches.items():
             qrange = prepared[all_members[0]][2]
@@ -357,9 +360,9 @@ class Library:
     def _explain_batch(self, prepared, members, vectors, scores, idx, top, profile, results):
         """Rank and explain each query of a scored chunk, writing into ``results``."""
         for col, i in enumerate(members):
-            qry, peaks, qr, tk = prepared[i]
+            source, peaks, qr, tk = prepared[i]
             res = self._explain_hits(peaks, vectors[i], qr, tk, scores[:, col], idx, top, profile)
-            res.query_file = qry.meta.source_file
+            res.query_file = source
             results[i] = res
 
     def _search_peaks(
@@ -371,9 +374,7 @@ class Library:
         top: int,
         profile: str | None,
     ) -> SearchResult:
-        holder = PeakList(np.zeros(0), np.zeros(0))
-        holder.meta.prep = []
-        return self._search_prepared([(holder, peaks, qrange, tokens)], top=top, profile=profile)[0]
+        return self._search_prepared([(None, peaks, qrange, tokens)], top=top, profile=profile)[0]
 
     def _explain_hits(
         self,
@@ -566,10 +567,6 @@ def _consistency_warnings(
             + "; ".join(report.warnings)
         )
     return list(report.warnings)
-
-
-def _round_range(r: tuple[float | None, float | None]) -> tuple:
-    return tuple(None if v is None else round(v / 10) * 10.0 for v in r)
 
 
 def _group_lookup(idx):

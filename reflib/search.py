@@ -183,69 +183,9 @@ def weighted_cosine(q: np.ndarray, refs: np.ndarray, w: np.ndarray) -> np.ndarra
     return np.clip(s, 0.0, 1.0).astype(np.float64)
 
 
-def group_keys(
-    preps: list[tuple[str, ...]], ranges: list[tuple[float | None, float | None]]
-) -> dict[tuple, np.ndarray]:
-    """Group reference rows by (preparation, covered range rounded to 10 cm-1)."""
-    groups: dict[tuple, list[int]] = {}
-    for i, (p, (lo, hi)) in enumerate(zip(preps, ranges)):
-        key = (
-            tuple(sorted(p)),
-            None if lo is None else round(lo / 10) * 10.0,
-            None if hi is None else round(hi / 10) * 10.0,
-        )
-        groups.setdefault(key, []).append(i)
-    return {k: np.asarray(v, dtype=np.int64) for k, v in groups.items()}
-
-
-def score_all(
-    q: np.ndarray,
-    matrix: np.ndarray,
-    preps: list[tuple[str, ...]],
-    ranges: list[tuple[float | None, float | None]],
-    enc: Encoding,
-    query_prep: list[str],
-    query_range: tuple[float | None, float | None],
-    profile: str | None = None,
-) -> np.ndarray:
-    """Exact weighted-cosine score of the query against every reference row."""
-    scores = np.zeros(matrix.shape[0], dtype=np.float64)
-    for (gprep, glo, ghi), idx in group_keys(preps, ranges).items():
-        w = comparison_weights(enc, query_prep, gprep, query_range, (glo, ghi), profile)
-        scores[idx] = weighted_cosine(q, matrix[idx], w)
-    return scores
-
-
-#: Rows scored per block: small enough that a block and its square stay in cache, so the
-#: numerator and the weighted norm cost about one pass over the matrix in memory.
+#: Rows whose weighted norms are computed per block: small enough that a block and its square
+#: stay in cache.
 BLOCK_ROWS = 1024
-
-
-def score_block(
-    q: np.ndarray, refs: np.ndarray, w: np.ndarray, out: np.ndarray | None = None
-) -> np.ndarray:
-    """:func:`weighted_cosine` for queries ``q`` (m, bins) against ``refs``, block by block.
-
-    Returns an (n, m) array of scores. The weighted reference norms are computed in the same
-    pass as the dot products, block by block, so the matrix is read from memory once.
-    """
-    q = np.atleast_2d(np.asarray(q, dtype=np.float64))
-    w64 = np.asarray(w, dtype=np.float64)
-    wq = (q * w64).astype(np.float32).T.copy()  # (bins, m)
-    qn = np.sqrt(np.einsum("ij,ij->i", q * w64, q))  # (m,)
-    w32 = w64.astype(np.float32)
-    n = refs.shape[0]
-    scores = np.empty((n, q.shape[0]), dtype=np.float64) if out is None else out
-    for start in range(0, n, BLOCK_ROWS):
-        block = np.asarray(refs[start : start + BLOCK_ROWS])
-        num = block @ wq
-        rn = np.sqrt(np.maximum((block * block) @ w32, 0.0))
-        den = rn[:, None] * qn[None, :]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            s = np.where(den > 0, num / np.where(den > 0, den, 1.0), 0.0)
-        scores[start : start + block.shape[0]] = np.clip(s, 0.0, 1.0)
-    return scores
-
 
 #: How many weight vectors' reference norms an index keeps (a few per preparation in use).
 NORM_CACHE_SIZE = 64
@@ -259,6 +199,40 @@ def weighted_norms(refs: np.ndarray, w: np.ndarray) -> np.ndarray:
         block = np.asarray(refs[start : start + BLOCK_ROWS])
         out[start : start + block.shape[0]] = np.sqrt(np.maximum((block * block) @ w32, 0.0))
     return out
+
+
+def score_block(
+    q: np.ndarray,
+    refs: np.ndarray,
+    w: np.ndarray,
+    out: np.ndarray | None = None,
+    *,
+    norms: np.ndarray | None = None,
+) -> np.ndarray:
+    """:func:`weighted_cosine` for queries ``q`` (m, bins) against ``refs``: an (n, m) array.
+
+    ``norms`` are the references' weighted norms (:func:`weighted_norms` of ``refs`` and ``w``)
+    when already known. The scores are computed in float32, in place, in ``out`` when given.
+    """
+    q = np.atleast_2d(np.asarray(q, dtype=np.float64))
+    w64 = np.asarray(w, dtype=np.float64)
+    rn = weighted_norms(refs, w64) if norms is None else norms
+    wq = (q * w64).astype(np.float32).T.copy()  # (bins, m)
+    qn = np.sqrt(np.einsum("ij,ij->i", q * w64, q))  # (m,)
+    with np.errstate(divide="ignore"):
+        inv_r = np.where(rn > 0, 1.0 / rn, 0.0).astype(np.float32)
+        inv_q = np.where(qn > 0, 1.0 / qn, 0.0).astype(np.float32)
+    shape = (refs.shape[0], q.shape[0])
+    into = out if out is not None and out.dtype == np.float32 else np.empty(shape, np.float32)
+    # float32 and in place: for a batch the (refs x queries) block is the big array
+    np.matmul(np.asarray(refs), wq, out=into)
+    into *= inv_r[:, None]
+    into *= inv_q[None, :]
+    np.clip(into, 0.0, 1.0, out=into)
+    if out is not None and into is not out:
+        out[...] = into
+        return out
+    return into
 
 
 def _group_norms(index, g, w: np.ndarray) -> np.ndarray:
@@ -295,19 +269,8 @@ def score_index(
     scores = np.zeros((index.size, q.shape[0]), dtype=np.float32)
     for g in index.groups:
         w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile)
-        rn = _group_norms(index, g, w)
-        wq = (q * w).astype(np.float32).T.copy()
-        qn = np.sqrt(np.einsum("ij,ij->i", q * w, q))
-        with np.errstate(divide="ignore"):
-            inv_r = np.where(rn > 0, 1.0 / rn, 0.0).astype(np.float32)
-            inv_q = np.where(qn > 0, 1.0 / qn, 0.0).astype(np.float32)
-        # float32 and in place: for a batch the (refs x queries) block is the big array
-        block = np.matmul(
-            np.asarray(index.matrix[g.start : g.stop]), wq, out=scores[g.start : g.stop]
-        )
-        block *= inv_r[:, None]
-        block *= inv_q[None, :]
-        np.clip(block, 0.0, 1.0, out=block)
+        refs = index.matrix[g.start : g.stop]
+        score_block(q, refs, w, out=scores[g.start : g.stop], norms=_group_norms(index, g, w))
     return scores
 
 
@@ -465,6 +428,4 @@ def distinguishing_bands(
 ) -> tuple[list[float], list[float]]:
     """Bands of ``a`` with no partner in ``b`` and vice versa (unmasked, at least medium)."""
     e = explain(a, b, grid, w, tolerance=tolerance)
-    only_a = [p for p in e.new]
-    only_b = [p for p in e.missing]
-    return only_a, only_b
+    return e.new, e.missing
