@@ -805,22 +805,29 @@ def _read_xydata(block: _Block, rec: _Record, source: str | None) -> Spectrum:
     return _spectrum(x, y, ykind, _metadata(block, source), rec.line, source)
 
 
-def _read_xypoints(block: _Block, rec: _Record, source: str | None) -> Spectrum:
-    xkind, ykind = _block_units(block, source)
-    _check_form(rec, ("XY",), source)
+def _scaled_table(
+    block: _Block, rec: _Record, ncols: int, source: str | None, holds: str
+) -> tuple[np.ndarray, float, np.ndarray, np.ndarray]:
+    """The (X, Y[, W]) groups of an XYPOINTS or PEAK TABLE record, checked against NPOINTS,
+    and x and y scaled by XFACTOR and YFACTOR. ``holds`` words the count mismatch."""
     xfactor = _block_number(block, "XFACTOR", source) or 1.0
     yfactor = _block_number(block, "YFACTOR", source)
     yfactor = 1.0 if yfactor is None else yfactor
-    arr = _groups(rec, 2, source, MAX_POINTS)
+    arr = _groups(rec, ncols, source, MAX_POINTS)
     npoints = _block_number(block, "NPOINTS", source)
     if npoints is not None and int(npoints) != arr.shape[0]:
         raise ReadError(
-            f"##NPOINTS={npoints:g} but ##XYPOINTS= holds {arr.shape[0]} points",
+            f"##NPOINTS={npoints:g} but " + holds.format(arr.shape[0]),
             path=source,
             line=rec.line,
         )
-    x = arr[:, 0] * xfactor
-    y = arr[:, 1] * yfactor
+    return arr, xfactor, arr[:, 0] * xfactor, arr[:, 1] * yfactor
+
+
+def _read_xypoints(block: _Block, rec: _Record, source: str | None) -> Spectrum:
+    xkind, ykind = _block_units(block, source)
+    _check_form(rec, ("XY",), source)
+    arr, xfactor, x, y = _scaled_table(block, rec, 2, source, "##XYPOINTS= holds {} points")
     if ykind == "transmittance":
         y = _transmittance_fraction(y, rec, source)
     x = _to_wavenumber(x, xkind, block, source)
@@ -866,19 +873,9 @@ def _peak_words(text: str, n: int, rec: _Record | None, source: str | None):
 def _read_peak_table(block: _Block, rec: _Record, source: str | None) -> PeakList:
     xkind, ykind = _block_units(block, source)
     form = _check_form(rec, ("XY", "XYW"), source)
-    xfactor = _block_number(block, "XFACTOR", source) or 1.0
-    yfactor = _block_number(block, "YFACTOR", source)
-    yfactor = 1.0 if yfactor is None else yfactor
-    arr = _groups(rec, len(form), source, MAX_POINTS)
-    npoints = _block_number(block, "NPOINTS", source)
-    if npoints is not None and int(npoints) != arr.shape[0]:
-        raise ReadError(
-            f"##NPOINTS={npoints:g} but the peak table holds {arr.shape[0]} peaks",
-            path=source,
-            line=rec.line,
-        )
-    x = arr[:, 0] * xfactor
-    y = arr[:, 1] * yfactor
+    arr, xfactor, x, y = _scaled_table(
+        block, rec, len(form), source, "the peak table holds {} peaks"
+    )
     if form == "XYW":
         w = arr[:, 2] * xfactor
         if np.any(w < 0):
