@@ -88,11 +88,7 @@ def run_demo(echo: Echo, data: str | Path | None = None, print_search=None) -> d
 
 
 def _leftover_job(echo: Echo, lib, folder: Path, row: dict[str, str]):
-    try:
-        from reflib import mixture
-    except ImportError:
-        echo("== Job 3: leftover starting material: not available in this build")
-        return None
+    from reflib import mixture
     from reflib.io import read_spectrum
 
     path = folder / "crudes" / row["file"]

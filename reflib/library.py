@@ -159,13 +159,8 @@ class Library:
         role_word = normalise_role(role) if role is not None else None
         tokens = prep_mod.parse_tokens(prep) if prep is not None else []
         tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(data.meta.prep)]))
-        if data.meta.sha256 and not force:
-            dup = self.store.spectrum_by_sha(data.meta.sha256)
-            if dup:
-                raise ValidationError(
-                    f"this file is already in the library as spectrum {dup['id']} of "
-                    f"{dup['name']!r}; use --force to add it again"
-                )
+        if not force:
+            self._refuse_duplicate(data)
         if peaks is None:
             peaks = to_peaks(data)
         if len(peaks) == 0:
@@ -186,13 +181,8 @@ class Library:
         if check_similar and self.store.counts()["spectra"]:
             warnings += self._similar_warnings(data, peaks, tokens, name, existing)
         with self.store.write():
-            if data.meta.sha256 and not force:  # another process may have added this file
-                dup = self.store.spectrum_by_sha(data.meta.sha256)
-                if dup:
-                    raise ValidationError(
-                        f"this file is already in the library as spectrum {dup['id']} of "
-                        f"{dup['name']!r}; use --force to add it again"
-                    )
+            if not force:  # again inside the write: another process may have added it
+                self._refuse_duplicate(data)
             if existing is None:  # another process may have added it since the lookup above
                 existing = self.store.compound_by_name(name)
             if existing:
@@ -228,6 +218,15 @@ class Library:
             )
         self._index = None
         return AddResult(cid, sid, name, new_compound, warnings)
+
+    def _refuse_duplicate(self, data: Spectrum | PeakList) -> None:
+        """A ValidationError when the file (same SHA-256) is already in the library."""
+        dup = self.store.spectrum_by_sha(data.meta.sha256) if data.meta.sha256 else None
+        if dup:
+            raise ValidationError(
+                f"this file is already in the library as spectrum {dup['id']} of "
+                f"{dup['name']!r}; use --force to add it again"
+            )
 
     def add_many(
         self, items: Iterable[dict[str, Any]], *, check_similar: bool = False
