@@ -41,9 +41,9 @@ def _expected(data: Path) -> list[dict[str, str]]:
 
 def run_demo(echo: Echo, data: str | Path | None = None, print_search=None) -> dict:
     """Walk the jobs, printing with ``echo``; returns what was found (used by the tests)."""
-    from reflib.importer import plan_import, run_import
     from reflib.io import read_spectrum
     from reflib.library import Library
+    from reflib.library.importer import plan_import, run_import
 
     folder = find_demo_data(data)
     summary: dict = {"searches": {}, "leftover": None}
@@ -88,8 +88,8 @@ def run_demo(echo: Echo, data: str | Path | None = None, print_search=None) -> d
 
 
 def _leftover_job(echo: Echo, lib, folder: Path, row: dict[str, str]):
-    from reflib import mixture
     from reflib.io import read_spectrum
+    from reflib.library import lookup
 
     path = folder / "crudes" / row["file"]
     echo(f"== Job 3: is starting material left? {row['file']}")
@@ -97,7 +97,7 @@ def _leftover_job(echo: Echo, lib, folder: Path, row: dict[str, str]):
         f"   reflib leftover {path.name} --start '{row['leftover']}' --product '{row['expected']}'"
     )
     sample = read_spectrum(path)
-    res = mixture.leftover_in_library(
+    res = lookup.leftover_in_library(
         lib, sample, row["leftover"], row["expected"], prep=row["prep"]
     )
     d = res.to_dict()

@@ -85,7 +85,8 @@ def absorbance_to_transmittance(a: np.ndarray) -> np.ndarray:
 class Metadata:
     """Where a spectrum or peak list came from. Every field is optional.
 
-    ``prep`` holds preparation tokens (see :mod:`reflib.prep`) found in the file or given by the
+    ``prep`` holds preparation tokens (see :mod:`reflib.chem.prep`) found in the file or given by
+    the
     user; ``extra`` keeps any other labelled value a reader found, verbatim.
     """
 

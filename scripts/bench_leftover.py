@@ -17,7 +17,7 @@ What it does, all on simulated data (group-frequency rules written from memory):
 * samples measured on another day: the two compounds perturbed again and added by Beer-Lambert
   at starting-material shares of 0, 2, 5, 10 and 20 % of the integrated absorbance
   (simlib.render_mixture), in several preparations (mull, solution in a cell, pellet, ATR, film);
-* reflib.mixture.leftover with the pure product known and with only the starting material.
+* reflib.analysis.mixture.leftover with the pure product known and with only the starting material.
 
 Reports detection rate per share, false alarms at 0 %, the mean absolute error of the share
 (product known) and how often the upper bound (start only) lies below the true share, against the
@@ -42,7 +42,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import simlib  # noqa: E402
 
-from reflib import mixture  # noqa: E402
+from reflib.analysis import (
+    leftover,  # noqa: F401
+    profiles,  # noqa: F401
+)
 
 SHARES = (0.0, 0.02, 0.05, 0.10, 0.20)
 SAMPLE_PREPS: dict[str, list[str]] = {
@@ -118,19 +121,19 @@ def sample(start, product, share, tokens, rng):
 
 def global_fit_share(smp, start_ref, product_ref, tokens) -> float:
     """The baseline: one whole-spectrum non-negative fit, no local windows, no shifts."""
-    grid = mixture.common_grid([smp, start_ref, product_ref])
-    y = mixture.profile(smp, grid, tokens)
-    s = mixture.profile(start_ref, grid)
-    p = mixture.profile(product_ref, grid)
-    from reflib import prep
+    grid = profiles.common_grid([smp, start_ref, product_ref])
+    y = profiles.profile(smp, grid, tokens)
+    s = profiles.profile(start_ref, grid)
+    p = profiles.profile(product_ref, grid)
+    from reflib.chem import prep
 
     w = prep.weight_profile(grid, list(dict.fromkeys([*y.prep, *s.prep, *p.prep])), air=True)
     cov = y.covered & s.covered & p.covered
-    extra = mixture.prep_columns(grid, y.prep) + mixture._baseline_columns(grid)  # noqa: SLF001
-    coef, _, _ = mixture.fit_nonnegative(y.y, [p.y, s.y], extra, w * cov)
+    extra = profiles.prep_columns(grid, y.prep) + profiles.baseline_columns(grid)  # noqa: SLF001
+    coef, _, _ = profiles.fit_nonnegative(y.y, [p.y, s.y], extra, w * cov)
     ref_w = prep.weight_profile(grid, [*s.prep, *p.prep], air=True)
     m = (ref_w > 0) & cov
-    a_s, a_p = mixture.area(s.y, m), mixture.area(p.y, m)
+    a_s, a_p = profiles.area(s.y, m), profiles.area(p.y, m)
     tot = coef[1] * a_s + coef[0] * a_p
     return float(coef[1] * a_s / tot) if tot > 0 else 0.0
 
@@ -147,8 +150,8 @@ def run(n_pairs: int, preps: list[str], seed: int, verbose: bool) -> list[dict]:
             for share in SHARES:
                 rng = simlib.rng_for(seed, "sample", start.key, label, share)
                 smp = sample(start, product, share, tokens, rng)
-                with_p = mixture.leftover(smp, ref_s, ref_p, prep=tokens)
-                only_s = mixture.leftover(smp, ref_s, None, prep=tokens)
+                with_p = leftover.leftover(smp, ref_s, ref_p, prep=tokens)
+                only_s = leftover.leftover(smp, ref_s, None, prep=tokens)
                 rows.append(
                     {
                         "reaction": reaction,

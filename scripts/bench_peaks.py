@@ -1,4 +1,5 @@
-"""Speed of reflib.peaks.pick_peaks on large INVENTED spectra, with a bare find_peaks baseline.
+"""Speed of reflib.signal.peaks.pick_peaks on large INVENTED spectra, with a bare find_peaks
+baseline.
 
 One command, not a test::
 
@@ -19,7 +20,7 @@ import time
 import numpy as np
 from scipy import signal
 
-from reflib.peaks import pick_peaks
+from reflib.signal.peaks import pick_peaks
 from reflib.spectrum import Spectrum
 
 

@@ -13,11 +13,12 @@ accuracy benchmark is scripts/bench_accuracy.py.
 
 For each library size, in one run, this prints:
 
-* bulk add rate through :func:`reflib.bulk.add_bulk` (one transaction per 1 000 items), and
+* bulk add rate through :func:`reflib.library.bulk.add_bulk` (one transaction per 1 000 items), and
   ``Library.add_many(check_similar=False)`` (one transaction per item) on a few hundred items;
-* index build time (:func:`reflib.index.load` with no cache file) and the cached reload;
+* index build time (:func:`reflib.library.index.load` with no cache file) and the cached reload;
 * single-query latency, median of at least 50 queries: ``lib.search`` on a PeakList, the pure
-  scoring step :func:`reflib.search.score_index` on an encoded vector, the floor (one float32
+  scoring step :func:`reflib.analysis.search.score_index` on an encoded vector, the floor (one
+  float32
   dense matrix-vector product over a matrix of the same shape) and the baseline (scikit-learn
   ``NearestNeighbors(metric="cosine", algorithm="brute").kneighbors``, unweighted);
 * a batch of 1 000 queries: ``lib.search_many`` and ``score_index`` with a (1000, bins) matrix,
@@ -175,7 +176,8 @@ def profile_text(fn, top: int = 10) -> str:
 
 
 def score_block_f32(q, refs, w, out=None, block_rows=256):
-    """Like reflib.search.score_block, but the post-processing stays in float32 and the weighted
+    """Like reflib.analysis.search.score_block, but the post-processing stays in float32 and the
+    weighted
     norm is an einsum on the block (no squared temporary)."""
     q = np.atleast_2d(np.asarray(q, dtype=np.float64))
     w64 = np.asarray(w, dtype=np.float64)
@@ -203,7 +205,7 @@ class NormCache:
         self.norms: dict[tuple, np.ndarray] = {}
 
     def score_block(self, q, refs, w, out=None, block_rows=1024, key=None):
-        import reflib.search as search_mod
+        import reflib.analysis.search as search_mod
 
         q = np.atleast_2d(np.asarray(q, dtype=np.float64))
         w64 = np.asarray(w, dtype=np.float64)
@@ -228,8 +230,8 @@ class NormCache:
 
 
 def score_index_with(block_fn, q, index, enc, query_prep, query_range, profile=None):
-    """reflib.search.score_index with another score_block."""
-    from reflib.search import comparison_weights
+    """reflib.analysis.search.score_index with another score_block."""
+    from reflib.analysis.search import comparison_weights
 
     q = np.atleast_2d(q)
     scores = np.zeros((index.size, q.shape[0]), dtype=np.float64)
@@ -243,7 +245,7 @@ def variants(idx, enc, qvecs, repeat: int) -> list[dict]:
     """Time exact alternatives of score_block on the same index and queries."""
     import threadpoolctl
 
-    import reflib.search as search_mod
+    import reflib.analysis.search as search_mod
 
     prep = ["film"]
     rng_ = (None, None)
@@ -316,9 +318,9 @@ def measure(lib_path: str, n_single: int, n_batch: int, with_variants: bool) -> 
     res: dict = {"hwm_start_mb": vm_hwm_mb()}
     from sklearn.neighbors import NearestNeighbors
 
-    from reflib.encode import comparable_peaks, encode
+    from reflib.analysis.encode import comparable_peaks, encode
+    from reflib.analysis.search import score_index
     from reflib.library import Library
-    from reflib.search import score_index
 
     lib = Library.open(lib_path)
     enc = lib.encoding
@@ -392,9 +394,9 @@ def measure(lib_path: str, n_single: int, n_batch: int, with_variants: bool) -> 
 
 def build(path: Path, n: int, seed: int) -> dict:
     """Build one library through the bulk path; time items, the add and the index."""
-    from reflib import index as index_mod
-    from reflib.bulk import add_bulk
     from reflib.library import Library
+    from reflib.library import index as index_mod
+    from reflib.library.bulk import add_bulk
 
     t = time.perf_counter()
     items = synthetic_items(n, seed)
@@ -457,7 +459,7 @@ def wall(cmd: list[str], cwd: Path | None = None) -> float:
 
 def cli_times(lib_path: Path, work: Path) -> dict:
     """Whole-process wall times of ``reflib search`` and ``reflib --help``."""
-    from reflib import index as index_mod
+    from reflib.library import index as index_mod
 
     q = query_list(1, seed=999)[0]
     qfile = work / "unknown.txt"
@@ -507,8 +509,8 @@ def summarise_importtime(text: str, top: int = 12) -> list[tuple[str, float]]:
 
 
 def bulk_profile(work: Path, n: int) -> str:
-    from reflib.bulk import add_bulk
     from reflib.library import Library
+    from reflib.library.bulk import add_bulk
 
     items = synthetic_items(n, seed=7, prefix="prof")
     lib = Library.create(work / "profile.sqlite")

@@ -28,7 +28,7 @@ import simlib  # noqa: E402
 
 from reflib.io.delimited import write_delimited  # noqa: E402
 from reflib.io.jcamp import write_jcamp  # noqa: E402
-from reflib.peaks import pick_peaks  # noqa: E402
+from reflib.signal.peaks import pick_peaks  # noqa: E402
 from reflib.spectrum import Metadata, PeakList, Spectrum  # noqa: E402
 
 SEED = 20240611

@@ -15,10 +15,10 @@ import tempfile
 from pathlib import Path
 
 from reflib.demo import find_demo_data
-from reflib.importer import plan_import, run_import
 from reflib.io import read_spectrum
 from reflib.library import Library
-from reflib.mixture import leftover_in_library
+from reflib.library.importer import plan_import, run_import
+from reflib.library.lookup import leftover_in_library
 from reflib.report import leftover_outputs, search_outputs
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -936,11 +936,13 @@ def apply_prep(
 ) -> Spectrum:
     """What a preparation does to a clean absorbance spectrum (invented, for benchmarks).
 
-    * the preparation's own bands (:func:`reflib.prep.own_bands`): mull oil strong, solvent strong
+    * the preparation's own bands (:func:`reflib.chem.prep.own_bands`): mull oil strong, solvent
+      strong
       (sometimes subtracted, leaving a residue of either sign), KBr water weak;
-    * solution regions of zero weight (:func:`reflib.prep.regions_for`): opaque, high noisy
+    * solution regions of zero weight (:func:`reflib.chem.prep.regions_for`): opaque, high noisy
       absorbance (or, when the solvent was subtracted, noise around the sample's trace);
-    * windows and crystals (:func:`reflib.prep.opaque_below`): transmission falling to nothing at
+    * windows and crystals (:func:`reflib.chem.prep.opaque_below`): transmission falling to nothing
+      at
       the cut-off, or the axis truncated there (``truncate_windows``; random when None);
     * ATR: absorbance grows toward low wavenumber (penetration depth ~ wavelength), a little extra
       noise where the diamond absorbs;
@@ -950,7 +952,7 @@ def apply_prep(
     ``subtract_solvent``: True = the solvent's spectrum was subtracted (a residue of either sign
     and noise where it was opaque), False = not, None = at random (35 % subtracted).
     """
-    from reflib import prep  # imported late: the simulator itself needs only reflib.spectrum
+    from reflib.chem import prep  # imported late: the simulator itself needs only reflib.spectrum
 
     toks = prep.parse_tokens(list(tokens))
     kinds = {t: prep.PREPARATIONS[t].kind for t in toks}

@@ -67,7 +67,7 @@ _ALLOWED = (
     "vs, s, m, w, vw, br, sh (or very strong, strong, medium, weak, very weak, broad, shoulder)"
 )
 
-#: Preparation words (lower case) -> reflib preparation token (see reflib.prep).
+#: Preparation words (lower case) -> reflib preparation token (see reflib.chem.prep).
 PREP_WORDS: dict[str, str] = {
     "film": "film",
     "neat": "neat",

@@ -1,7 +1,8 @@
 """Band annotation and structure consistency on the real gas-phase spectra of jcamp 1.3.2.
 
 The spectra are the gas-phase infrared files of the jcamp 1.3.2 source distribution (fixture
-``gas_phase``); peaks are picked with :func:`reflib.peaks.pick_peaks` at its defaults and read in
+``gas_phase``); peaks are picked with :func:`reflib.signal.peaks.pick_peaks` at its defaults and
+read in
 the gas phase (the files say ``##STATE=gas``). The assignment of each band is the textbook one,
 from memory: gas-phase carbonyls sit some 20 cm-1 above their liquid positions, alcohols show a
 sharp free O-H near 3650-3690 cm-1, and so on.
@@ -19,11 +20,11 @@ from pathlib import Path
 
 import pytest
 
-from reflib import bands
+from reflib.chem import bands
+from reflib.chem.structure import check_consistency
 from reflib.io import read_spectrum
-from reflib.peaks import pick_peaks
+from reflib.signal.peaks import pick_peaks
 from reflib.spectrum import PeakList, Spectrum
-from reflib.structure import check_consistency
 
 pytestmark = pytest.mark.outside
 

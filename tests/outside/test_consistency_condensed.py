@@ -2,7 +2,7 @@
 
 Spectra: indene (R. J. Lancashire's test set, the same spectrum in several compressions),
 2,2'-bipyridine (LABCALC.DX) and polyethylene (SPECFILE.DX) of the JCAMP-DX test files in the
-jcamp 1.3.2 source distribution; peaks picked by :func:`reflib.peaks.pick_peaks` at its
+jcamp 1.3.2 source distribution; peaks picked by :func:`reflib.signal.peaks.pick_peaks` at its
 defaults; the files give no phase, so the condensed-phase table ranges apply. Polyethylene is
 checked against dodecane, a chain segment standing in for the polymer (its groups are the same).
 The wrong structures are plausible confusions a chemist could type (from memory: an alcohol, a
@@ -15,9 +15,9 @@ from pathlib import Path
 
 import pytest
 
+from reflib.chem.structure import check_consistency
 from reflib.io import read_spectrum
-from reflib.peaks import pick_peaks
-from reflib.structure import check_consistency
+from reflib.signal.peaks import pick_peaks
 
 pytestmark = pytest.mark.outside
 

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import pytest
 
-from reflib.structure import functional_groups
+from reflib.chem.structure import functional_groups
 
 # name, SMILES, groups a chemist would list (from memory)
 MOLECULES = [

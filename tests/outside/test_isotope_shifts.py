@@ -6,8 +6,8 @@ import math
 
 import pytest
 
-from reflib import bands
-from reflib.isotope import MASSES, deuterium_shift, isotope_shift
+from reflib.chem import bands
+from reflib.chem.isotope import MASSES, deuterium_shift, isotope_shift
 
 
 def test_ch_at_3020_predicts_cd_near_2216() -> None:

@@ -17,8 +17,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from reflib import mixture
-from reflib.compare import compare
+from reflib.analysis import leftover, mixture
+from reflib.analysis.compare import compare
 from reflib.io import read_spectrum
 from reflib.spectrum import Metadata, Spectrum
 
@@ -58,7 +58,7 @@ def test_beer_lambert_mixture_gives_the_ratio_back(spectra, start, product, shar
     s, p = spectra[start], spectra[product]
     y = share * _unit_area(s) + (1 - share) * _unit_area(p)
     smp = Spectrum(s.x, y, "absorbance", Metadata(title="mixture"))
-    r = mixture.leftover(smp, s, p)
+    r = leftover.leftover(smp, s, p)
     assert r.detected
     assert abs(r.share - share) <= 0.02, (r.share, share)
 
@@ -68,12 +68,12 @@ def test_pure_product_is_not_called_detected(spectra, start, product):
     """No starting material: not detected, also after a 1 cm-1 shift and noise of 0.5 % of the
     strongest band (a re-measurement)."""
     s, p = spectra[start], spectra[product]
-    assert not mixture.leftover(p, s, p).detected
+    assert not leftover.leftover(p, s, p).detected
     rng = np.random.default_rng(0)
     y = np.interp(p.x - 1.0, p.x, p.y) + rng.normal(0, 0.005 * p.y.max(), p.y.size)
-    r = mixture.leftover(Spectrum(p.x, y, "absorbance", Metadata(title="remeasured")), s, p)
+    r = leftover.leftover(Spectrum(p.x, y, "absorbance", Metadata(title="remeasured")), s, p)
     assert not r.detected, (r.share, r.z)
-    assert not mixture.leftover(p, s).detected  # start only
+    assert not leftover.leftover(p, s).detected  # start only
 
 
 def test_carbonyl_is_diagnostic_for_acetone_in_isopropyl_alcohol(spectra):
@@ -81,7 +81,7 @@ def test_carbonyl_is_diagnostic_for_acetone_in_isopropyl_alcohol(spectra):
     among its diagnostic bands against isopropyl alcohol, which has no carbonyl."""
     s, p = spectra["acetone"], spectra["isopropyl alcohol"]
     y = 0.1 * _unit_area(s) + 0.9 * _unit_area(p)
-    r = mixture.leftover(Spectrum(s.x, y), s, p)
+    r = leftover.leftover(Spectrum(s.x, y), s, p)
     assert any(1700 <= b.position <= 1760 and b.seen for b in r.diagnostic_bands)
 
 

@@ -1,6 +1,7 @@
 """The numpy peak finding and filters on the real gas-phase spectra of the jcamp 1.3.2 sdist.
 
-reflib.peakfind and reflib.filters1d replace scipy.signal's ``find_peaks`` / ``peak_widths`` and
+reflib.signal.peakfind and reflib.signal.filters1d replace scipy.signal's ``find_peaks`` /
+``peak_widths`` and
 scipy.ndimage's four 1-D filters in the picker, so that starting reflib does not import them.
 The general-purpose reference library, SciPy, is the judge: on every gas-phase spectrum of the
 distribution (NIST-distributed spectra: Coblentz transmittance charts, 0.24 cm-1 absorbance,
@@ -18,8 +19,8 @@ import numpy as np
 import pytest
 from scipy import ndimage, signal
 
-from reflib import filters1d, peakfind, peaks
 from reflib.io import read_all
+from reflib.signal import filters1d, peakfind, peaks
 from reflib.spectrum import PeakList, Spectrum
 
 pytestmark = pytest.mark.outside

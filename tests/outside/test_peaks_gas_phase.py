@@ -22,7 +22,7 @@ import pytest
 from typer.testing import CliRunner
 
 from reflib.io import read_all, read_spectrum
-from reflib.peaks import pick_peaks
+from reflib.signal.peaks import pick_peaks
 from reflib.spectrum import PeakList, Spectrum
 
 pytestmark = pytest.mark.outside

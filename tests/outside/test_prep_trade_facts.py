@@ -11,7 +11,7 @@ import math
 import numpy as np
 import pytest
 
-from reflib.prep import TOKENS, harmonic_isotope_shift, weight_profile
+from reflib.chem.prep import TOKENS, harmonic_isotope_shift, weight_profile
 
 
 def w_at(cm1: float, tokens, *, air: bool = False) -> float:

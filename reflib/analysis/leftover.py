@@ -1,0 +1,681 @@
+"""Leftover starting material in a product: local non-negative fits around the starting
+material's diagnostic bands. No I/O.
+
+Profiles and fits come from :mod:`reflib.analysis.profiles`.
+
+Share of the signal
+-------------------
+The **share** of a component is the fraction of the sample's compound absorbance, integrated
+over wavenumber, that the component accounts for::
+
+    share_k = c_k A_k / sum_i c_i A_i
+
+where ``c_k`` is the fitted amount of reference ``k`` and ``A_k`` its integrated absorbance
+(absorbance x cm-1) over the compared range, outside the regions its own preparation drops. The
+preparation's own bands and the baseline are not signal. This is the share a Beer-Lambert sum of
+area-normalised spectra is built with (mass or mole fractions need absorptivities reflib does not
+have).
+
+Why the leftover test fits locally
+----------------------------------
+A sample and its references were measured on different days: bands move a few cm-1 and change
+height. A whole-spectrum fit lets the starting-material term soak up that misfit, so
+:func:`leftover` fits the sample only in windows around the starting material's *diagnostic
+bands* (its strong bands far from any product band, outside masked regions), each window with
+its own amounts of product and starting material, a straight local baseline, and a shift of each
+reference of up to :data:`MAX_SHIFT_CM1`. The amount of starting material is the
+inverse-variance mean over the windows, judged against the residual of the local fits and the
+noise measured in the sample. The product's amount comes from a whole-spectrum fit, where misfit
+hardly matters because the product dominates.
+
+Example
+-------
+>>> import numpy as np
+>>> from reflib.spectrum import Spectrum
+>>> x = np.arange(400.0, 4000.0, 2.0)
+>>> g = lambda c, w: np.exp(-0.5 * ((x - c) / w) ** 2)
+>>> start = Spectrum(x, g(1715, 8) + 0.5 * g(1200, 8))
+>>> product = Spectrum(x, g(3350, 60) + 0.5 * g(1200, 8))
+>>> r = leftover(Spectrum(x, 0.1 * start.y + product.y), start, product)
+>>> r.detected, round(r.share, 2)
+(True, 0.02)
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from scipy import ndimage
+from scipy.optimize import nnls
+
+from reflib.analysis.profiles import (
+    DEFAULT_BAND_FWHM,
+    GRID_STEP_CM1,
+    MIN_SHARE,
+    PEAK_LIST_NOISE,
+    REF_AREA_WEIGHT,
+    SMOOTH_CM1,
+    USABLE_WEIGHT,
+    Profile,
+    area,
+    baseline_columns,
+    check_data,
+    common_grid,
+    fit_nonnegative,
+    prep_columns,
+    profile,
+    reference_area,
+    strong_bands,
+)
+from reflib.analysis.search import CAUTION
+from reflib.chem import prep as prep_mod
+from reflib.errors import ValidationError
+from reflib.spectrum import PeakList, Spectrum
+
+#: Largest shift (cm-1) allowed between a reference and the sample in a local fit: spectra of the
+#: same compound measured on different days (or instruments) agree within a few cm-1 each, so
+#: two of them may differ by twice that (common practice, no source).
+MAX_SHIFT_CM1 = 8.0
+#: A starting-material band is diagnostic when the product's relative absorbance at it is below
+#: this fraction of the band's own relative intensity.
+DIAGNOSTIC_CONTRAST = 0.35
+#: Starting-material bands weaker than this (relative) are not used as diagnostic bands.
+DIAGNOSTIC_MIN_INTENSITY = 0.12
+#: At most this many diagnostic bands, the clearest first.
+MAX_DIAGNOSTIC = 10
+#: Relative change of one band's height between two measurements of the same compound (log
+#: standard deviation; common practice, no source: heights of strong bands agree within 10-20 %).
+BAND_HEIGHT_SPREAD = 0.2
+#: Local amounts as area ratios (True) or least-squares amplitudes (False).
+AREA_AMOUNTS = True
+#: FWHM (cm-1) of the broadening used to fit the product's amount (see ``product_amount``).
+AMOUNT_BROADENING_CM1 = 30.0
+#: Significance (fitted amount over its standard error) a diagnostic band needs to count as seen.
+Z_SEEN = 3.0
+#: Significance of the combined amount of starting material needed to call it detected.
+#: Calibrated on scripts/bench_leftover.py (false alarms at 0 % against detection at 5 %).
+Z_DETECT = 5.0
+#: Start only: the upper bound allows the sample to dip this many noise units below zero.
+BOUND_NOISE_UNITS = 3.0
+#: Start only: detected when the bound's limiting band is this many noise units above zero and
+#: the bound (before the day-to-day allowance) is at least :data:`START_ONLY_MIN_SHARE`
+#: (calibrated on scripts/bench_leftover.py).
+START_ONLY_Z = 6.0
+START_ONLY_MIN_SHARE = 0.075
+
+Data = Spectrum | PeakList
+
+
+@dataclass
+class DiagnosticBand:
+    """A starting-material band used to look for it in the sample.
+
+    ``position`` cm-1 (the starting material's); ``seen`` whether the sample shows it above
+    noise; ``sample_intensity`` the band's height in the sample relative to the sample's strongest
+    band (0..1); ``snr`` that height over its standard error; ``amount`` the local fitted amount.
+    """
+
+    position: float
+    seen: bool
+    sample_intensity: float
+    snr: float = 0.0
+    amount: float = 0.0
+    sigma: float = 0.0
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "position": round(self.position, 1),
+            "seen": bool(self.seen),
+            "sample_intensity": round(float(self.sample_intensity), 4),
+        }
+
+
+@dataclass
+class LeftoverResult:
+    """What :func:`leftover` found; :meth:`to_dict` is the JSON ``reflib leftover --json`` prints.
+
+    ``share`` and ``share_interval`` (0..1, 95 %) need the pure product; ``upper_bound`` (0..1)
+    needs only the starting material; ``detection_limit`` (0..1) is the share below which this
+    pair's leftover would not be called detected.
+    """
+
+    start: dict[str, Any]
+    product: dict[str, Any] | None
+    detected: bool
+    share: float | None
+    share_interval: tuple[float, float] | None
+    upper_bound: float | None
+    detection_limit: float
+    diagnostic_bands: list[DiagnosticBand]
+    notes: list[str] = field(default_factory=list)
+    z: float = 0.0
+    limiting_band: float | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        r4 = lambda v: None if v is None else round(float(v), 4)  # noqa: E731
+        return {
+            "start": dict(self.start),
+            "product": None if self.product is None else dict(self.product),
+            "detected": bool(self.detected),
+            "share": r4(self.share),
+            "share_interval": None
+            if self.share_interval is None
+            else [r4(self.share_interval[0]), r4(self.share_interval[1])],
+            "upper_bound": r4(self.upper_bound),
+            "detection_limit": r4(self.detection_limit),
+            "diagnostic_bands": [b.to_dict() for b in self.diagnostic_bands],
+            "notes": list(self.notes),
+            "caution": CAUTION,
+        }
+
+
+# --- the leftover test --------------------------------------------------------------------------
+
+
+def _shifted(y: np.ndarray, shift_pts: float) -> np.ndarray:
+    """``y`` moved by ``shift_pts`` grid points toward higher wavenumber (linear interpolation)."""
+    if shift_pts == 0:
+        return y
+    idx = np.arange(y.size, dtype=float) - shift_pts
+    return np.interp(idx, np.arange(y.size), y, left=0.0, right=0.0)
+
+
+@dataclass
+class _Window:
+    position: float
+    sl: slice
+    fwhm: float
+
+
+def _window(grid: np.ndarray, pos: float, fwhm: float, usable: np.ndarray) -> _Window | None:
+    half = float(np.clip(1.6 * fwhm + 12.0, 24.0, 400.0))
+    i0 = int(np.searchsorted(grid, pos - half))
+    i1 = int(np.searchsorted(grid, pos + half))
+    if i1 - i0 < 8 or usable[i0:i1].mean() < 0.7:
+        return None
+    return _Window(pos, slice(i0, i1), fwhm)
+
+
+def _local_fit(
+    y: np.ndarray,
+    grid: np.ndarray,
+    S: np.ndarray,
+    P: np.ndarray | None,
+    win: _Window,
+    usable: np.ndarray,
+    noise: float,
+    corr_pts: float,
+) -> tuple[float, float, float]:
+    """Best local fit over shifts: (amount of S, its standard error, height of the S band,
+    residual rms in noise units)."""
+    sl = win.sl
+    m = usable[sl]
+    yy = y[sl][m]
+    t = (grid[sl][m] - win.position) / max(float(np.ptp(grid[sl][m])), 1.0)
+    base = [np.ones_like(t), -np.ones_like(t), t, -t]
+    shifts = np.arange(-MAX_SHIFT_CM1, MAX_SHIFT_CM1 + 0.1, 1.0) / GRID_STEP_CM1
+    s_cache: dict[float, np.ndarray] = {}
+    p_cache: dict[float, np.ndarray] = {}
+
+    def fit(ds: float, dp: float):
+        if ds not in s_cache:
+            s_cache[ds] = _shifted(S, ds)[sl][m]
+        cols = [s_cache[ds]]
+        if P is not None:
+            if dp not in p_cache:
+                p_cache[dp] = _shifted(P, dp)[sl][m]
+            cols.append(p_cache[dp])
+        X = np.column_stack(cols + base)
+        coef, rnorm = nnls(X, yy)
+        return (rnorm, coef, X, s_cache[ds], ds, dp)
+
+    # coordinate search over the two shifts (starting material, product), twice round
+    best = fit(0.0, 0.0)
+    for _round in range(2):
+        for ds in shifts:
+            cand = fit(float(ds), best[5])
+            if cand[0] < best[0]:
+                best = cand
+        if P is None:
+            break
+        for dp in shifts:
+            cand = fit(best[4], float(dp))
+            if cand[0] < best[0]:
+                best = cand
+    rnorm, coef, X, sc = best[:4]
+    n, p = X.shape[0], (3 if P is None else 4)
+    s2 = max(rnorm**2 / max(n - p, 1), noise**2)
+    misfit = float(np.sqrt(rnorm**2 / max(n - p, 1)) / noise) if noise > 0 else 0.0
+    # free-sign design for the covariance: [S, (P), 1, t]
+    Xf = np.column_stack([X[:, 0]] + ([X[:, 1]] if P is not None else []) + [X[:, -4], X[:, -2]])
+    try:
+        cov = np.linalg.inv(Xf.T @ Xf) * s2 * corr_pts
+        sigma = float(np.sqrt(max(cov[0, 0], 0.0)))
+    except np.linalg.LinAlgError:
+        sigma = float("inf")
+    peak = float(sc.max()) if sc.size else 0.0
+    if AREA_AMOUNTS and coef[0] > 0:
+        # the amount as an area ratio: what the fit leaves for the starting material (sample
+        # less the local product and baseline terms) over the starting material's own area
+        rest = yy - X[:, 1:] @ coef[1:]
+        core = sc > 0.2 * peak
+        den = float(np.sum(sc[core]))
+        if den > 0:
+            b_area = float(np.sum(rest[core]) / den)
+            return max(b_area, 0.0), sigma, peak, misfit
+    return float(coef[0]), sigma, peak, misfit
+
+
+def _relative_at(y: np.ndarray, grid: np.ndarray, pos: float, reach: float) -> float:
+    m = np.abs(grid - pos) <= reach
+    top = float(y.max()) if y.size else 0.0
+    if not m.any() or top <= 0:
+        return 0.0
+    return float(np.clip(y[m].max(), 0.0, None) / top)
+
+
+def diagnostic_bands(
+    start: Data,
+    product: Data | None,
+    grid: np.ndarray,
+    S: np.ndarray,
+    P: np.ndarray | None,
+    usable: np.ndarray,
+    *,
+    contrast_limit: float = DIAGNOSTIC_CONTRAST,
+    max_bands: int = MAX_DIAGNOSTIC,
+) -> tuple[list[tuple[float, float, float]], bool]:
+    """The starting material's diagnostic bands ``(position cm-1, relative intensity, FWHM)``.
+
+    Its bands of at least :data:`DIAGNOSTIC_MIN_INTENSITY` in usable (unmasked, covered) places;
+    with a product, only those the product does not crowd: the product's relative absorbance
+    near the band, and the relative intensity of any product band overlapping it (closer than
+    half the sum of the widths plus :data:`MAX_SHIFT_CM1`), must stay under
+    :data:`DIAGNOSTIC_CONTRAST` of the band's own intensity. Clearest first. When none
+    qualifies, the (at most three) least crowded bands with some contrast are returned and the
+    flag is False ("no clean diagnostic band").
+    """
+    peaks = strong_bands(start, grid, Profile(S, usable, 0, [], ""))
+    p_peaks = strong_bands(product, grid, Profile(P, usable, 0, [], "")) if P is not None else None
+    out = []
+    for p in peaks:
+        if p.intensity < DIAGNOSTIC_MIN_INTENSITY or not (
+            grid[0] + 20 < p.position < grid[-1] - 20
+        ):
+            continue
+        i = int(np.clip(np.searchsorted(grid, p.position), 0, grid.size - 1))
+        if not usable[i]:
+            continue
+        fwhm = p.width if np.isfinite(p.width) else DEFAULT_BAND_FWHM
+        rel_s = _relative_at(S, grid, p.position, 3.0)
+        if rel_s <= 0:
+            continue
+        contrast = 0.0
+        if P is not None:
+            reach = 0.5 * fwhm + MAX_SHIFT_CM1 + SMOOTH_CM1
+            contrast = _relative_at(P, grid, p.position, reach) / rel_s
+            if p_peaks is not None and len(p_peaks):
+                pw = np.where(np.isfinite(p_peaks.widths), p_peaks.widths, DEFAULT_BAND_FWHM)
+                near = np.abs(p_peaks.positions - p.position) < 0.5 * (pw + fwhm) + MAX_SHIFT_CM1
+                if near.any():
+                    contrast = max(contrast, float(p_peaks.intensities[near].max()) / p.intensity)
+        out.append((contrast, -rel_s, float(p.position), rel_s, float(fwhm)))
+    out.sort()
+    clean = [o for o in out if o[0] < contrast_limit]
+    ok = bool(clean)
+    pool = clean if clean else [o for o in out if o[0] < 1.0][:3]
+    chosen: list[tuple[float, float, float]] = []
+    for _c, _neg, pos, rel, fwhm in pool:
+        if any(abs(pos - q) < max(fwhm, f) for q, _, f in chosen):
+            continue
+        chosen.append((pos, rel, fwhm))
+        if len(chosen) >= max_bands:
+            break
+    return chosen, ok
+
+
+def _describe(data: Data, info: dict[str, Any] | None) -> dict[str, Any]:
+    d: dict[str, Any] = dict(info or {})
+    if "name" not in d:
+        d["name"] = data.meta.title or data.meta.source_file
+    d.setdefault("kind", "spectrum" if isinstance(data, Spectrum) else "peaks")
+    d.setdefault("prep", list(data.meta.prep))
+    return d
+
+
+def leftover(
+    sample: Data,
+    start: Data,
+    product: Data | None = None,
+    *,
+    prep: Iterable[str] | str | None = (),
+    start_info: dict[str, Any] | None = None,
+    product_info: dict[str, Any] | None = None,
+) -> LeftoverResult:
+    """Is starting material left in ``sample``, and how much of the signal is it?
+
+    Parameters
+    ----------
+    sample, start, product:
+        Spectra (best) or peak lists of the sample, the starting material and, when known, the
+        pure product. Their own preparation tokens come from their metadata.
+    prep:
+        The sample's preparation tokens (added to its metadata's): their regions are masked
+        and their own bands fitted out.
+    start_info, product_info:
+        What to print about the references (name, ids...); defaults to their titles.
+
+    Returns
+    -------
+    LeftoverResult
+        With the product: ``share`` (0..1, see the module docstring), a 95 % interval from the
+        local fits' covariance and the scatter between diagnostic bands, ``detected`` when the
+        combined amount is at least :data:`Z_DETECT` standard errors and :data:`MIN_SHARE`.
+        Always: ``upper_bound``, the largest share of starting material that can be subtracted
+        without driving the sample more than :data:`BOUND_NOISE_UNITS` noise units below zero
+        at any of its strong bands; without the product ``detected`` rests on that bound.
+    """
+    check_data("sample", sample)
+    check_data("start", start)
+    if product is not None:
+        check_data("product", product)
+    items = [sample, start] + ([product] if product is not None else [])
+    grid = common_grid(items)
+    sp = profile(sample, grid, prep)
+    st = profile(start, grid)
+    pr = profile(product, grid) if product is not None else None
+    tokens = list(dict.fromkeys([*sp.prep, *st.prep, *(pr.prep if pr else [])]))
+    w = prep_mod.weight_profile(grid, tokens, air=True)
+    covered = sp.covered & st.covered & (pr.covered if pr else True)
+    usable = (w >= USABLE_WEIGHT) & covered
+    notes: list[str] = []
+    y, S = sp.y, st.y
+    P = pr.y if pr is not None else None
+    if sp.kind == "peaks":
+        notes.append("the sample is a peak list: noise assumed 1 % of its strongest band")
+    noise = max(sp.noise, 1e-6 * max(float(np.ptp(y)), 1e-12))
+    if sp.kind == "peaks":
+        noise = PEAK_LIST_NOISE * float(y.max())
+    corr_pts = max(1.0, 2.0 * np.sqrt(np.pi) * SMOOTH_CM1 / 2.3548 / GRID_STEP_CM1)
+    sample_top = float(y[usable].max()) if usable.any() else float(y.max())
+    # reference areas: over the range compared, outside what the references' own preparations
+    # spoil (a KBr pellet's water bands would otherwise count as the compound's absorbance)
+    ref_w = prep_mod.weight_profile(grid, [*st.prep, *(pr.prep if pr else [])], air=True)
+    ref_mask = (ref_w >= REF_AREA_WEIGHT) & covered
+    a_s = reference_area(S, grid, st.prep, ref_mask)
+    if a_s <= 0:
+        raise ValidationError("the starting material shows no absorbance in the compared range")
+    a_y = area(y, usable)
+
+    diags, clean = diagnostic_bands(start, product, grid, S, P, usable)
+    if P is not None and diags and not clean:
+        notes.append(
+            "no starting-material band is clear of the product's bands: the estimate rests on "
+            "crowded bands and is weak"
+        )
+    bound, limiting, bound_bands = _upper_bound(y, grid, S, start, usable, noise)
+    raw_ub = min(1.0, bound * area(S, usable) / a_y) if a_y > 0 else None
+    # a band may be weaker in the sample than in the reference by day-to-day change alone:
+    # the reported bound allows two spreads of it
+    ub_share = None if raw_ub is None else min(1.0, raw_ub * float(np.exp(2 * BAND_HEIGHT_SPREAD)))
+    info_s = _describe(start, start_info)
+    info_p = _describe(product, product_info) if product is not None else None
+
+    if P is None:
+        return _start_only(
+            info_s, y, S, grid, usable, noise, bound, limiting, bound_bands, ub_share,
+            sample_top, a_y, notes, raw_ub,
+        )  # fmt: skip
+
+    # --- product known: local fits ---
+    a_p = reference_area(P, grid, pr.prep, ref_mask)
+    extra = prep_columns(grid, sp.prep) + baseline_columns(grid)
+    coef, _, _ = fit_nonnegative(y, [P, S], extra, w * covered)
+    amount_p = float(coef[0])
+    bands: list[DiagnosticBand] = []
+    amounts, sigmas = [], []
+    for pos, _rel, fwhm in diags:
+        win = _window(grid, pos, fwhm, usable)
+        if win is None:
+            continue
+        b, sb, peak, _misfit = _local_fit(y, grid, S, P, win, usable, noise, corr_pts)
+        z = b / sb if sb > 0 else 0.0
+        height = b * peak
+        seen = z >= Z_SEEN and height >= Z_SEEN * noise
+        rel = height / sample_top if sample_top > 0 else 0.0
+        bands.append(DiagnosticBand(pos, seen, rel, z, b, sb))
+        amounts.append(b)
+        sigmas.append(sb)
+    if not bands:
+        notes.append(
+            "no starting-material band is clear of the product's bands and the masked regions: "
+            "the share rests on the bound only"
+        )
+        return LeftoverResult(
+            info_s, info_p, False, None, None, ub_share, 1.0 if ub_share is None else ub_share,
+            [], notes, 0.0, limiting,
+        )  # fmt: skip
+    am, sg = np.array(amounts), np.array(sigmas)
+    used = reject_high(am, sg)
+    for k, band in enumerate(bands):
+        if not used[k]:
+            notes.append(
+                f"the band at {band.position:.0f} cm-1 claims more starting material than the "
+                "other diagnostic bands allow (a misfit of a nearby band?); left out"
+            )
+    b_mean, b_sig, b_err = combine_bands(am[used], sg[used])
+    z_all = b_mean / b_sig if b_sig > 0 else 0.0
+    broad = _broadened_fit_data(y, S, P, grid, sp.prep)
+
+    def product_amount(b: float) -> float:
+        """The product's amount with the starting material fixed at ``b``: a least-squares fit
+        of heavily broadened profiles (:data:`AMOUNT_BROADENING_CM1`), which shifts and width
+        changes of a few cm-1 leave nearly alone (a sharp template a few cm-1 off comes out
+        low) and which needs no band areas of the sample."""
+        yb, sb, pb, extra_b = broad
+        c, _, _ = fit_nonnegative(yb - b * sb, [pb], extra_b, w * covered)
+        return float(c[0]) if c[0] > 0 else amount_p
+
+    def share_of(b: float, a: float | None = None) -> float:
+        a = amount_p if a is None else a
+        tot = b * a_s + a * a_p
+        return float(b * a_s / tot) if tot > 0 else 0.0
+
+    amount_p = product_amount(b_mean)
+
+    z_ok = z_all >= Z_DETECT and share_of(b_mean) >= MIN_SHARE and any(b.seen for b in bands)
+    if z_ok:
+        # the amount is then measured on every starting-material band the product does not
+        # swamp (the crowded ones too, each with the product modelled): more bands average out
+        # the day-to-day change of single band heights
+        more, _ = diagnostic_bands(
+            start, product, grid, S, P, usable, contrast_limit=1.0, max_bands=2 * MAX_DIAGNOSTIC
+        )
+        have = {round(b.position, 1) for b in bands}
+        am2, sg2 = list(am[used]), list(sg[used])
+        for pos, _rel, fwhm in more:
+            if round(pos, 1) in have:
+                continue
+            win = _window(grid, pos, fwhm, usable)
+            if win is None:
+                continue
+            b, sb, _peak, _misfit = _local_fit(y, grid, S, P, win, usable, noise, corr_pts)
+            am2.append(b)
+            sg2.append(sb)
+        am2a, sg2a = np.array(am2), np.array(sg2)
+        keep2 = reject_high(am2a, sg2a)
+        b_mean, _, b_err = combine_bands(am2a[keep2], sg2a[keep2])
+        notes.append(f"amount measured on {int(keep2.sum())} starting-material band(s)")
+    amount_p = product_amount(b_mean)
+    share = share_of(b_mean)
+    interval = (share_of(max(b_mean - 1.96 * b_err, 0.0)), share_of(b_mean + 1.96 * b_err))
+    limit = max(share_of(Z_DETECT * b_sig), MIN_SHARE)
+    detected = bool(z_all >= Z_DETECT and share >= MIN_SHARE and any(b.seen for b in bands))
+    if detected and not all(b.seen for b in bands):
+        notes.append(
+            "not every diagnostic band is seen: "
+            + ", ".join(f"{b.position:.0f}" for b in bands if not b.seen)
+            + " cm-1 stay below noise"
+        )
+    if len(bands) == 1:
+        notes.append(f"only one diagnostic band ({bands[0].position:.0f} cm-1): a weak basis")
+    notes.append(
+        f"fitted locally around {len(bands)} diagnostic band(s); starting material at "
+        f"{z_all:.1f} standard errors"
+    )
+    if ub_share is not None and limiting is not None:
+        notes.append(f"the bound is set by the starting material's band at {limiting:.0f} cm-1")
+    return LeftoverResult(
+        info_s, info_p, detected, share, interval, ub_share, limit, bands, notes, z_all, limiting
+    )
+
+
+def _broadened_fit_data(
+    y: np.ndarray, S: np.ndarray, P: np.ndarray, grid: np.ndarray, tokens: list[str]
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[np.ndarray]]:
+    """Sample, start and product profiles broadened to :data:`AMOUNT_BROADENING_CM1`, with the
+    preparation's band columns (broadened alike) and a smooth baseline."""
+    sig = AMOUNT_BROADENING_CM1 / 2.3548 / GRID_STEP_CM1
+
+    def br(v: np.ndarray) -> np.ndarray:
+        return ndimage.gaussian_filter1d(v, sig, mode="nearest")
+
+    extra = [br(c) for c in prep_columns(grid, tokens)] + baseline_columns(grid, 4)
+    return br(y), br(S), br(P), extra
+
+
+def combine_bands(
+    amounts: np.ndarray, sigmas: np.ndarray, spread: float | None = None
+) -> tuple[float, float, float]:
+    """Combine the local amounts of several bands: (mean, its noise error, its total error).
+
+    Each band's variance is its fit variance plus ``(spread * mean)**2``: a band's height
+    changes between days by about :data:`BAND_HEIGHT_SPREAD` (relative), so one very clean band
+    must not outweigh the others. The noise error (fit variances only) is what the detection
+    test uses; the total error adds the scatter between bands and sets the interval.
+    """
+    spread = BAND_HEIGHT_SPREAD if spread is None else spread
+    sg = np.maximum(sigmas, 1e-12)
+    w0 = 1.0 / sg**2
+    mean = float(np.sum(w0 * amounts) / np.sum(w0))
+    for _ in range(5):
+        var = sg**2 + (spread * max(mean, 0.0)) ** 2
+        w = 1.0 / var
+        mean = float(np.sum(w * amounts) / np.sum(w))
+    noise_err = float(np.sqrt(np.sum(w**2 * sg**2)) / np.sum(w))
+    total = float(np.sqrt(1.0 / np.sum(w)))
+    if amounts.size >= 2:
+        scatter = float(np.sum(w * (amounts - mean) ** 2) / np.sum(w) / (amounts.size - 1))
+        total = max(total, float(np.sqrt(noise_err**2 + scatter)))
+    return mean, noise_err, total
+
+
+def reject_high(amounts: np.ndarray, sigmas: np.ndarray, k: float = 3.0) -> np.ndarray:
+    """Mask of the bands to keep: drop, one at a time, a band whose amount lies more than ``k``
+    total errors above the mean of the others. Leftover starting material shows in *all* its
+    diagnostic bands alike; one band claiming much more is a neighbour's misfit, not leftover."""
+    keep = np.ones(amounts.size, bool)
+    while keep.sum() >= 2:
+        idx = np.flatnonzero(keep)
+        worst, worst_z = None, k
+        for i in idx:
+            others = keep.copy()
+            others[i] = False
+            m, _n, t = combine_bands(amounts[others], sigmas[others])
+            spread = BAND_HEIGHT_SPREAD * max(m, 0.0)
+            z = (amounts[i] - m) / np.sqrt(sigmas[i] ** 2 + t**2 + spread**2)
+            if z > worst_z:
+                worst, worst_z = i, z
+        if worst is None:
+            break
+        keep[worst] = False
+    return keep
+
+
+def _upper_bound(
+    y: np.ndarray, grid: np.ndarray, S: np.ndarray, start: Data, usable: np.ndarray, noise: float
+) -> tuple[float, float | None, list[tuple[float, float, float]]]:
+    """Largest amount of S subtractable without y - b S < -k noise at any strong S band core.
+
+    Returns (amount, position of the limiting band or None, [(position, bound, sample height)]).
+    """
+    peaks = strong_bands(start, grid, Profile(S, usable, 0, [], ""))
+    shifts = np.arange(-MAX_SHIFT_CM1, MAX_SHIFT_CM1 + 0.1, 1.0) / GRID_STEP_CM1
+    results = []
+    for p in peaks:
+        if p.intensity < 0.3:
+            continue
+        i = int(np.clip(np.searchsorted(grid, p.position), 0, grid.size - 1))
+        if not usable[i]:
+            continue
+        fwhm = p.width if np.isfinite(p.width) else DEFAULT_BAND_FWHM
+        core = np.abs(grid - p.position) <= max(0.5 * fwhm, 3.0)
+        core &= usable
+        if core.sum() < 2:
+            continue
+        best = 0.0
+        for ds in shifts:
+            sc = _shifted(S, ds)[core]
+            ok = sc > 0.5 * sc.max() if sc.max() > 0 else np.zeros_like(sc, bool)
+            if not ok.any():
+                continue
+            b = float(np.min((y[core][ok] + BOUND_NOISE_UNITS * noise) / sc[ok]))
+            best = max(best, b)
+        height = float(np.max(y[core]))
+        results.append((float(p.position), best, height))
+    if not results:
+        return float("inf"), None, []
+    pos, b, _h = min(results, key=lambda r: r[1])
+    return b, pos, results
+
+
+def _start_only(
+    info_s,
+    y,
+    S,
+    grid,
+    usable,
+    noise,
+    bound,
+    limiting,
+    bound_bands,
+    ub_share,
+    top,
+    a_y,
+    notes,
+    raw_ub,
+) -> LeftoverResult:
+    notes.append("the pure product is not given: only an upper bound on the share is possible")
+    bands = []
+    for pos, b, h in sorted(bound_bands, key=lambda r: r[1]):
+        i = int(np.argmin(np.abs(grid - pos)))
+        level = float(b * S[max(i - 2, 0) : i + 3].max())
+        z = level / noise if noise > 0 else 0.0
+        seen = z >= START_ONLY_Z
+        bands.append(DiagnosticBand(pos, seen, h / top if top > 0 else 0.0, z, b, 0.0))
+        if len(bands) >= MAX_DIAGNOSTIC:
+            break
+    if ub_share is None or limiting is None:
+        notes.append("no strong starting-material band lies in an unmasked region")
+        return LeftoverResult(info_s, None, False, None, None, None, 1.0, bands, notes)
+    s_peak = float(S[usable].max()) if usable.any() else float(S.max())
+    per_noise = (
+        START_ONLY_Z * noise / s_peak * (float(np.sum(S[usable])) * GRID_STEP_CM1) / a_y
+        if a_y > 0 and s_peak > 0
+        else 1.0
+    )
+    limit = max(START_ONLY_MIN_SHARE, per_noise)
+    lim_band = bands[0] if bands else None
+    detected = bool(lim_band is not None and lim_band.seen and raw_ub >= limit)
+    notes.append(f"the bound is set by the starting material's band at {limiting:.0f} cm-1")
+    if detected:
+        notes.append(
+            "every strong starting-material band shows in the sample: starting material is "
+            "probably left (without the pure product the bound may include product bands)"
+        )
+    return LeftoverResult(
+        info_s, None, detected, None, None, ub_share, limit, bands, notes, 0.0, limiting
+    )
