@@ -106,7 +106,10 @@ PlotOpt = typer.Option(None, "--plot", help="Draw the comparison (.png, .svg or 
 ReportOpt = typer.Option(None, "--report", help="Write a self-contained HTML report.")
 
 
-@app.command()
+PANEL = "Compare and quantify"
+
+
+@app.command(rich_help_panel=PANEL)
 def leftover(
     file: Path = typer.Argument(..., help="The product (crude) spectrum or peak list."),
     start: str = typer.Option(..., "--start", help="Starting material: library name or id."),
@@ -141,7 +144,7 @@ def leftover(
         print_leftover(res)
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def mixture(
     file: Path = typer.Argument(..., help="The crude spectrum or peak list."),
     max_components: int = typer.Option(
@@ -175,7 +178,7 @@ def mixture(
         print_mixture(res)
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def compare(
     a: str = typer.Argument(..., help="First spectrum: a file, or a library name or id."),
     b: str = typer.Argument(..., help="Second spectrum: a file, or a library name or id."),

@@ -9,8 +9,10 @@ import typer
 from reflib.cli.common import app
 from reflib.cli.search import _print_search
 
+PANEL = "Try it"
 
-@app.command()
+
+@app.command(rich_help_panel=PANEL)
 def demo(
     data: Path = typer.Option(None, "--data", help="The demo_data folder (default: ./demo_data)."),
 ) -> None:

@@ -12,8 +12,10 @@ import typer
 
 from reflib.cli.common import LibraryOpt, app
 
+PANEL = "Look after the library"
 
-@app.command()
+
+@app.command(rich_help_panel=PANEL)
 def check(
     fix: bool = typer.Option(
         False, "--fix", help="Repair what is safe: orphan rows, stale or missing vectors."
@@ -36,7 +38,7 @@ def check(
         raise typer.Exit(1)
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def backup(
     dest: Path = typer.Argument(..., help="New file to write the copy to."),
     library: Path = LibraryOpt,

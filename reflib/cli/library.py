@@ -10,8 +10,10 @@ import typer
 
 from reflib.cli.common import LibraryOpt, _echo_json, _library_path, _open, _usage, app
 
+PANEL = "Build and browse the library"
 
-@app.command()
+
+@app.command(rich_help_panel=PANEL)
 def init(
     path: Path = typer.Argument(None, help="Where to create the library (default: reflib.sqlite)."),
     library: Path = LibraryOpt,
@@ -24,7 +26,7 @@ def init(
     typer.echo(f"created library {target}")
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def add(
     files: list[Path] = typer.Argument(None, help="Spectrum files or typed peak lists."),
     name: str = typer.Option(..., "--name", "-n", help="Compound name."),
@@ -77,7 +79,7 @@ def add(
             typer.echo(f"  warning: {w}")
 
 
-@app.command(name="import")
+@app.command(name="import", rich_help_panel=PANEL)
 def import_(
     source: Path = typer.Argument(..., help="A manifest CSV or a folder of spectra."),
     prep: str = typer.Option(None, "--prep", help="Preparation tokens for all files."),
@@ -105,7 +107,7 @@ def import_(
         raise typer.Exit(1)
 
 
-@app.command(name="list")
+@app.command(name="list", rich_help_panel=PANEL)
 def list_(
     role: str = typer.Option(None, "--role", help="Only this role."),
     match: str = typer.Option(None, "--match", help="Only names containing this text."),
@@ -131,7 +133,7 @@ def list_(
         )
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def show(
     ref: str = typer.Argument(..., help="Compound id or name."),
     json_out: bool = typer.Option(False, "--json", help="Print JSON."),
@@ -165,7 +167,7 @@ def show(
         typer.echo(f"    {bands}")
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def remove(
     ref: str = typer.Argument(..., help="Compound id or name."),
     yes: bool = typer.Option(False, "--yes", help="Do not ask for confirmation."),
@@ -182,7 +184,7 @@ def remove(
     typer.echo(f"removed {out['name']!r} ({out['spectra']} spectra)")
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def export(
     dest: Path = typer.Argument(..., help="Folder to write into (created if missing)."),
     fmt: str = typer.Option("jcamp", "--format", help="jcamp or csv."),
@@ -196,7 +198,7 @@ def export(
     typer.echo(f"wrote {n} files to {dest}")
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def reindex(library: Path = LibraryOpt) -> None:
     """Re-encode every stored peak list with the library's encoding."""
     with _open(library) as lib:

@@ -37,7 +37,10 @@ def _peak_table(peaks: Any, assign: bool = False) -> str:
     return "\n".join(lines)
 
 
-@app.command()
+PANEL = "Identify an unknown"
+
+
+@app.command(rich_help_panel=PANEL)
 def peaks(
     file: Path = typer.Argument(..., help="Spectrum (JCAMP-DX, CSV/TSV) or typed peak list."),
     json_out: bool = typer.Option(False, "--json", help="Print JSON instead of a table."),
@@ -123,7 +126,7 @@ def _print_search(res, explain_top: int = 3) -> None:
     typer.echo(CAUTION)
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def search(
     files: list[Path] = typer.Argument(..., help="Unknown spectra or peak lists, or folders."),
     prep: str = typer.Option(None, "--prep", help="The unknown's preparation, e.g. nujol."),
