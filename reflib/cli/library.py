@@ -87,7 +87,8 @@ def import_(
     force: bool = typer.Option(False, "--force", help="Add exact duplicates too."),
     library: Path = LibraryOpt,
 ) -> None:
-    """Add many spectra from a manifest CSV or a folder (manifest columns: see README)."""
+    """Add many spectra from a manifest CSV (columns file,name,prep,smiles,role,notebook,
+    operator,note; only file is required) or a folder of spectra."""
     from reflib.library.importer import plan_import, run_import
 
     entries = plan_import(source, prep=prep, role=role)

@@ -135,7 +135,7 @@ def search(
         None, "--weights", help="Region profile: functional, fingerprint, or 1800-1650:3,..."
     ),
     json_out: bool = typer.Option(
-        False, "--json", help="Print the JSON contract (README), one document per line."
+        False, "--json", help="Print the JSON contract (docs/search.md), one document per line."
     ),
     csv_out: Path = typer.Option(None, "--csv", help="Also write a one-line-per-query summary."),
     plot: Path = typer.Option(
