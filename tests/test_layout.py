@@ -48,3 +48,20 @@ def test_every_subpackage_says_what_lives_there():
     for init in sorted(import_graph.PACKAGE.rglob("__init__.py")):
         doc = ast.get_docstring(ast.parse(init.read_text(encoding="utf-8")))
         assert doc and len(doc.split()) >= 8, init.parent.name
+
+
+def test_every_subpackage_is_installed():
+    """``pip install .`` ships only the packages pyproject.toml lists: each subpackage of
+    reflib/ must be there, or a plain install would lack it."""
+    import re
+
+    text = (import_graph.ROOT / "pyproject.toml").read_text(encoding="utf-8")
+    block = re.search(r"^packages = \[(.*?)\]", text, re.S | re.M)
+    assert block, "pyproject.toml lists no packages"
+    listed = set(re.findall(r'"([\w.]+)"', block.group(1)))
+    found = {
+        import_graph.module_name(p)
+        for p in import_graph.PACKAGE.rglob("__init__.py")
+        if "__pycache__" not in p.parts
+    }
+    assert found - listed == set()
