@@ -117,7 +117,8 @@ _QUALIFIERS = {
     "intermolecular", "ring", "overtone", "overtones", "combination", "band", "conj",
     "conjugated", "unconj", "sat", "saturated", "sp", "sp2", "sp3", "i", "ii", "iii",
     "mono", "monosubst", "disubst", "ortho", "para", "meta", "subst", "and", "or", "of",
-    "ν", "δ", "γ", "ρ", "ω", "τ", "β", "νas", "νs", "δas", "δs", "+",
+    "umbrella", "breathing", "unsat", "unsaturated", "monomer", "dimer",
+    "ν", "δ", "γ", "ρ", "ω", "τ", "α", "β", "νas", "νs", "δas", "δs", "+",
 }  # fmt: skip
 #: Element symbols and the abbreviations of groups written in formulae, longest first.
 _SYMBOLS = sorted(
@@ -159,6 +160,7 @@ _OTHER_MARKERS: list[tuple[str, re.Pattern[str]]] = [
         ),
     ),
     ("MS", re.compile(r"(?<![\w])m/z(?![\w])")),
+    ("MS", re.compile(r"\[\s?M\s?[-+·]")),
     ("UV", re.compile(r"(?<![\w-])UV(?:[-/ ]?[Vv][Ii][Ss])?(?![\w])")),
     ("UV", re.compile(r"(?<![\w])λ\s?max(?![\w])")),
     ("mp", re.compile(r"(?<![\w.])(?:[MmBb]\.\s?[Pp]\.|[MmBb][Pp]|MP)(?![\w])")),
@@ -358,6 +360,7 @@ def _chunk_kind(chunk: str) -> str:
         return "number"
     if _UNIT_CHUNK.fullmatch(chunk):
         return "unit"
+    low = re.sub(r"^[αβγδω](?:,[αβγδω])*-(?=[a-z])", "", low)  # 'β-lactam', 'α,β-unsat.'
     if low.rstrip(".") in _GROUP_WORDS:
         return "group"
     if low in _QUALIFIERS:
@@ -799,10 +802,10 @@ class _Parser:
             limit = markers[j].start if j < len(markers) else len(self.text)
             seg = self.read_part(m.start, limit, m.text)
             nxt = f"{markers[j].text!r} at {self.at(markers[j].start)}" if j < len(markers) else ""
-            ended = self.text[max(seg.start, seg.end - 12) : seg.end].strip()
-            where = f"after the IR part (which ends with {ended!r})" + (
-                f" and before {nxt}" if nxt else ""
-            )
+            last = next((t for t in reversed(self.toks) if t.end <= seg.end), self.toks[0])
+            where = f"after the IR part, which ends with {last.text!r} at {self.at(last.start)}"
+            if nxt:
+                where += f", and before {nxt}"
             self.check_stray(seg.end, limit, where)
             out.append(seg)
             k = j
