@@ -50,6 +50,7 @@ above 3000 cm-1 (O-H, N-H stretches), 60 cm-1 below (common practice, no source)
 
 from __future__ import annotations
 
+import bisect
 import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -398,6 +399,7 @@ class _Parser:
         self.text = _normalise(text)
         self.source = source
         self.toks = _tokens(self.text)
+        self.starts = [t.start for t in self.toks]
         self.i = 0
         self.stop = len(self.toks)
         self.segment_mode = False
@@ -420,10 +422,7 @@ class _Parser:
 
     def tok_index(self, char: int) -> int:
         """Index of the first token starting at or after character ``char``."""
-        for k, tok in enumerate(self.toks):
-            if tok.start >= char:
-                return k
-        return len(self.toks)
+        return bisect.bisect_left(self.starts, char)
 
     def peek(self, k: int) -> _Tok | None:
         return self.toks[k] if k < self.stop else None
@@ -750,9 +749,11 @@ class _Parser:
         if any(t.kind in ("unit", "word", "punct") for t in self.toks):
             return
         rows: dict[int, int] = {}
+        line = 1
         for t in self.toks:
-            if t.kind in ("number", "range"):
-                line = self.where(t.start)[0]
+            if t.kind == "nl":
+                line += 1
+            elif t.kind in ("number", "range"):
                 rows[line] = rows.get(line, 0) + 1
         table = sorted(line for line, n in rows.items() if n >= 2)
         if len(table) >= 2:
@@ -802,7 +803,7 @@ class _Parser:
             limit = markers[j].start if j < len(markers) else len(self.text)
             seg = self.read_part(m.start, limit, m.text)
             nxt = f"{markers[j].text!r} at {self.at(markers[j].start)}" if j < len(markers) else ""
-            last = next((t for t in reversed(self.toks) if t.end <= seg.end), self.toks[0])
+            last = self.toks[max(0, bisect.bisect_left(self.starts, seg.end) - 1)]
             where = f"after the IR part, which ends with {last.text!r} at {self.at(last.start)}"
             if nxt:
                 where += f", and before {nxt}"
