@@ -22,7 +22,6 @@ from reflib.encode import Encoding, encode
 from reflib.health import check_library
 from reflib.library import Library
 from reflib.spectrum import PeakList
-from reflib.store import SCHEMA_VERSION
 
 BANDS = {
     "acetone": ([3005.0, 1715.0, 1365.0, 1220.0, 530.0], [0.1, 1.0, 0.5, 0.5, 0.3]),
@@ -113,7 +112,7 @@ def test_fresh_library_is_healthy(libpath):
     r = reflib("check", "-L", libpath, "--json")
     assert r.returncode == 0, r.stderr
     d = json.loads(r.stdout)
-    assert d["healthy"] is True and d["schema_version"] == SCHEMA_VERSION
+    assert d["healthy"] is True and d["schema_version"] == 3
     assert all(f["severity"] == "notice" for f in d["findings"])
 
 
