@@ -113,6 +113,14 @@ class Metadata:
         return out
 
 
+def _clean_label(value: Any) -> str | None:
+    """An author's band label as stored: one line of text without outer blanks, or None."""
+    if value is None:
+        return None
+    text = " ".join(str(value).split())
+    return text or None
+
+
 def _as_1d_float(name: str, values: Any) -> np.ndarray:
     arr = np.asarray(values, dtype=float)
     if arr.ndim != 1:
@@ -205,6 +213,7 @@ class Peak(NamedTuple):
     strength: str  # vs, s, m, w, vw
     broad: bool
     shoulder: bool
+    label: str | None = None  # the author's assignment, e.g. "C=O", as typed
 
     def words(self) -> str:
         """The band's description as a chemist writes it, e.g. ``'s, br'``."""
@@ -222,6 +231,8 @@ class PeakList:
 
     Stored sorted by ascending position. ``strengths`` default to the words of the intensities;
     ``broad`` marks wide bands (O-H, N-H), ``shoulder`` marks shoulders on a stronger band.
+    ``labels`` (optional, one entry per band, None for a band without one) keeps the author's
+    assignment of a typed list as written, e.g. ``"C=O"`` or ``"arom. C-H"``.
 
     Example
     -------
@@ -237,6 +248,7 @@ class PeakList:
     broad: np.ndarray | None = None
     shoulder: np.ndarray | None = None
     meta: Metadata = field(default_factory=Metadata)
+    labels: Sequence[str | None] | None = None
 
     def __post_init__(self) -> None:
         pos = _as_1d_float("positions", self.positions)
@@ -275,6 +287,9 @@ class PeakList:
         shoulder = np.zeros(n, bool) if self.shoulder is None else np.asarray(self.shoulder, bool)
         if broad.size != n or shoulder.size != n:
             raise ValidationError("broad and shoulder flags must have one entry per band")
+        labels = None if self.labels is None else [_clean_label(v) for v in self.labels]
+        if labels is not None and len(labels) != n:
+            raise ValidationError(f"{n} positions but {len(labels)} labels")
         order = np.argsort(pos, kind="stable")
         self.positions = pos[order]
         self.intensities = inten[order]
@@ -282,6 +297,7 @@ class PeakList:
         self.strengths = [strengths[i] for i in order]
         self.broad = broad[order]
         self.shoulder = shoulder[order]
+        self.labels = None if labels is None else [labels[i] for i in order]
 
     def __len__(self) -> int:
         return int(self.positions.size)
@@ -295,6 +311,7 @@ class PeakList:
                 self.strengths[i],
                 bool(self.broad[i]),
                 bool(self.shoulder[i]),
+                None if self.labels is None else self.labels[i],
             )
 
     def subset(self, idx: np.ndarray | Sequence[int]) -> PeakList:
@@ -308,6 +325,7 @@ class PeakList:
             self.broad[idx],
             self.shoulder[idx],
             meta=self.meta,
+            labels=None if self.labels is None else [self.labels[i] for i in idx],
         )
 
     def descending(self) -> list[Peak]:
@@ -315,8 +333,12 @@ class PeakList:
         return list(self)[::-1]
 
     def to_text(self) -> str:
-        """The list as a chemist would type it, e.g. ``'3350 (m, br), 1715 (vs) cm-1'``."""
-        parts = [f"{p.position:.0f} ({p.words()})" for p in self.descending()]
+        """The list as a chemist would type it, e.g. ``'3350 (m, br), 1715 (vs) cm-1'``; an
+        author's label follows the words: ``'1715 (vs, C=O)'``."""
+        parts = [
+            f"{p.position:.0f} ({p.words()}{', ' + p.label if p.label else ''})"
+            for p in self.descending()
+        ]
         return ", ".join(parts) + " cm-1" if parts else ""
 
     def to_dict(self) -> dict[str, Any]:
@@ -331,6 +353,7 @@ class PeakList:
                     "strength": p.strength,
                     "broad": p.broad,
                     "shoulder": p.shoulder,
+                    **({"label": p.label} if p.label is not None else {}),
                 }
                 for p in self.descending()
             ],

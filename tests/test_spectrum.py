@@ -70,3 +70,15 @@ def test_strength_word_thresholds_are_ordered():
 def test_errors_name_file_and_line():
     err = ReflibError("bad Y check", path="a.jdx", line=12)
     assert str(err) == "a.jdx, line 12: bad Y check"
+
+
+def test_peak_list_labels_follow_their_bands():
+    pl = PeakList([1715.0, 3350.0, 1240.0], [1.0, 0.4, 0.6], labels=["C=O", " O-H ", ""])
+    assert pl.labels == [None, "C=O", "O-H"]  # sorted with the positions, blanks made None
+    assert [p.label for p in pl.descending()] == ["O-H", "C=O", None]
+    assert pl.subset([1]).labels == ["C=O"]
+    assert pl.to_text() == "3350 (m, O-H), 1715 (vs, C=O), 1240 (s) cm-1"
+    assert [q.get("label") for q in pl.to_dict()["peaks"]] == ["O-H", "C=O", None]
+    assert PeakList([1715.0], [1.0]).labels is None
+    with pytest.raises(ValidationError, match="labels"):
+        PeakList([1715.0, 1240.0], [1.0, 0.5], labels=["C=O"])

@@ -141,8 +141,15 @@ def show(
     library: Path = LibraryOpt,
 ) -> None:
     """Show one compound, its provenance and its spectra's peak lists."""
+    from reflib.chem.bands import describe_all
+    from reflib.io.peaktext import compare_labels
+
     with _open(library) as lib:
         c = lib.show(ref)
+        for s in c["spectra"]:  # the author's labels beside reflib's reading of each band
+            notes = compare_labels(lib.peaks(int(s["id"])), describe_all)
+            if notes:
+                s["label_notes"] = [n.to_dict() | {"text": n.text} for n in notes]
     if json_out:
         _echo_json(c)
         return
@@ -163,9 +170,13 @@ def show(
         prep = ", ".join(s["prep"]) or "no preparation given"
         typer.echo(f"  spectrum {s['id']}: {s['kind']}, {prep}, from {s['source_file'] or '-'}")
         bands = ", ".join(
-            f"{p['position']:.0f} {p['strength']}{' br' if p['broad'] else ''}" for p in s["peaks"]
+            f"{p['position']:.0f} {p['strength']}{' br' if p['broad'] else ''}"
+            + (f" ({p['label']})" if p.get("label") else "")
+            for p in s["peaks"]
         )
         typer.echo(f"    {bands}")
+        for note in s.get("label_notes", []):
+            typer.echo(f"    {note['text']}")
 
 
 @app.command(rich_help_panel=PANEL)

@@ -72,7 +72,7 @@ def parse_all(text: str, *, source: str | None = None, y_kind: str | None = None
     if fmt == "peaktext":
         from reflib.io import peaktext
 
-        return [peaktext.parse_peak_text(text, source=source)]
+        return list(peaktext.parse_peak_texts(text, source=source))
     from reflib.io import delimited
 
     return [delimited.parse_delimited(text, source=source, y_kind=y_kind)]
@@ -86,7 +86,8 @@ def _stamp(objs: list[Readable], path: Path, digest: str) -> list[Readable]:
 
 
 def read_all(path: str | Path, *, y_kind: str | None = None) -> list[Readable]:
-    """Every infrared spectrum or peak list in a file (several for a JCAMP-DX LINK file).
+    """Every infrared spectrum or peak list in a file (several for a JCAMP-DX LINK file, or a
+    characterisation line with two IR segments).
 
     ``y_kind`` ('absorbance' or 'transmittance') overrides the detection for delimited columns.
     Raises :class:`~reflib.errors.ReadError` naming the file (and line, where known).
@@ -110,7 +111,9 @@ def read_spectrum(path: str | Path, *, y_kind: str | None = None) -> Readable:
     """
     objs = read_all(path, y_kind=y_kind)
     if len(objs) != 1:
-        titles = "; ".join(o.meta.title or "(untitled)" for o in objs)
+        titles = "; ".join(
+            o.meta.title or o.meta.extra.get("ir_segment") or "(untitled)" for o in objs
+        )
         raise ReadError(
             f"holds {len(objs)} infrared blocks ({titles}); read them with read_all() "
             "or split the file",

@@ -23,6 +23,8 @@ Example
 
 from __future__ import annotations
 
+import csv
+import io
 import math
 import re
 from dataclasses import dataclass
@@ -31,7 +33,7 @@ from pathlib import Path
 import numpy as np
 
 from reflib.errors import ReadError, ValidationError
-from reflib.spectrum import Y_KINDS, Metadata, Spectrum, micrometres_to_wavenumber
+from reflib.spectrum import Y_KINDS, Metadata, PeakList, Spectrum, micrometres_to_wavenumber
 
 #: A spectrum with fewer rows than this is refused (a typed peak list belongs in peaktext).
 MIN_POINTS = 10
@@ -579,4 +581,45 @@ def write_delimited(spectrum: Spectrum, *, sep: str = ",") -> str:
     return "\n".join(lines) + "\n"
 
 
-__all__ = ["parse_delimited", "write_delimited", "baseline_side", "MIN_POINTS"]
+#: Columns of :func:`write_peak_table`, in order.
+PEAK_TABLE_COLUMNS = ("position_cm-1", "intensity", "width_cm-1", "strength", "broad", "shoulder")
+
+
+def write_peak_table(peaks: PeakList, *, sep: str = ",") -> str:
+    """A peak list as a delimited table, one band per row from high to low wavenumber.
+
+    Columns: :data:`PEAK_TABLE_COLUMNS` (width empty when not known, broad and shoulder 0 or
+    1), then ``label``, the author's assignment (empty when none), when any band has one.
+    Fields holding the separator or a quote are quoted as CSV does.
+
+    >>> print(write_peak_table(PeakList([1715.0], [1.0], labels=["C=O, ester"])), end="")
+    position_cm-1,intensity,width_cm-1,strength,broad,shoulder,label
+    1715.00,1.0000,,vs,0,0,"C=O, ester"
+    """
+    if sep not in (",", ";", "\t"):
+        raise ValidationError(f"separator must be ',', ';' or tab, got {sep!r}")
+    labelled = peaks.labels is not None and any(peaks.labels)
+    out = io.StringIO()
+    writer = csv.writer(out, delimiter=sep, lineterminator="\n")
+    writer.writerow([*PEAK_TABLE_COLUMNS, *(["label"] if labelled else [])])
+    for p in peaks.descending():
+        row = [
+            f"{p.position:.2f}",
+            f"{p.intensity:.4f}",
+            "" if p.width != p.width else f"{p.width:.2f}",
+            p.strength,
+            int(p.broad),
+            int(p.shoulder),
+        ]
+        writer.writerow(row + ([p.label or ""] if labelled else []))
+    return out.getvalue()
+
+
+__all__ = [
+    "parse_delimited",
+    "write_delimited",
+    "write_peak_table",
+    "baseline_side",
+    "MIN_POINTS",
+    "PEAK_TABLE_COLUMNS",
+]

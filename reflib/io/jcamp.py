@@ -571,6 +571,7 @@ _OWN_LABELS = {
     "BLOCKS",
     "$REFLIBPREP",
     "$REFLIBPEAKWORDS",
+    "$REFLIBPEAKLABELS",
 }
 
 _SOLVENTS = [
@@ -1196,8 +1197,14 @@ def _write_peaks(peaks: PeakList) -> str:
         "##YFACTOR=1",
         f"##NPOINTS={len(peaks)}",
         f"##$REFLIB PEAK WORDS={' '.join(words)}",
-        "##PEAK TABLE=(XYW..XYW)",
     ]
+    if peaks.labels is not None and any(peaks.labels):
+        lines.append("##$REFLIB PEAK LABELS=(XA)")
+        for p in peaks:
+            if p.label:
+                label = _clean_value(p.label.replace("<", "(").replace(">", ")"))
+                lines.append(f"({_fmt(p.position, 10)},<{label}>)")
+    lines.append("##PEAK TABLE=(XYW..XYW)")
     row = ""
     for p in peaks:
         width = 0.0 if math.isnan(p.width) else p.width
@@ -1223,8 +1230,9 @@ def write_jcamp(obj: Readable, *, compression: str = "affn") -> str:
     ``YFACTOR = max|y| / 1e6`` (so each ordinate is kept to within 5e-7 of the largest |y|).
     An unevenly spaced axis is written as ``##XYPOINTS=(XY..XY)`` (AFFN, 12 digits for x) in
     either case. A peak list is written as ``##PEAK TABLE=(XYW..XYW)`` (width 0 = not known) with
-    strength words and broad/shoulder flags in ``##$REFLIB PEAK WORDS=`` and preparation tokens
-    in ``##$REFLIB PREP=``.
+    strength words and broad/shoulder flags in ``##$REFLIB PEAK WORDS=``, the author's band
+    labels (when there are any) in ``##$REFLIB PEAK LABELS=(XA)``, one ``(position,<label>)``
+    per line, and preparation tokens in ``##$REFLIB PREP=``.
 
     >>> print(write_jcamp(PeakList([1715.0], [1.0], [12.0])).splitlines()[-2])
     1715,1,12

@@ -18,7 +18,7 @@ def safe_stem(name: str) -> str:
 
 def export_library(lib, dest: str | Path, fmt: str = "jcamp") -> int:
     """Write every stored spectrum into ``dest``; returns the number of files written."""
-    from reflib.io.delimited import write_delimited
+    from reflib.io.delimited import write_delimited, write_peak_table
     from reflib.io.jcamp import write_jcamp
 
     if fmt not in FORMATS:
@@ -40,14 +40,7 @@ def export_library(lib, dest: str | Path, fmt: str = "jcamp") -> int:
                 text = write_delimited(full)
                 path = out / f"{stem}.csv"
             else:
-                lines = ["position_cm-1,intensity,width_cm-1,strength,broad,shoulder"]
-                for p in obj.descending():
-                    width = "" if p.width != p.width else f"{p.width:.2f}"
-                    lines.append(
-                        f"{p.position:.2f},{p.intensity:.4f},{width},{p.strength},"
-                        f"{int(p.broad)},{int(p.shoulder)}"
-                    )
-                text = "\n".join(lines) + "\n"
+                text = write_peak_table(obj)  # with a label column when the author gave labels
                 path = out / f"{stem}-peaks.csv"
             path.write_text(text, encoding="utf-8")
             n += 1

@@ -8,7 +8,7 @@ One library is one SQLite file any SQLite tool can open. Tables:
                sha256, lo_cm1, hi_cm1, y_kind, x, y (zlib-compressed float64), meta (JSON),
                acquired_at, operator, notes, added_at
 ``peaks``      spectrum_id, position (cm-1), intensity (0..1), width (FWHM cm-1), strength,
-               broad, shoulder
+               broad, shoulder, and from schema 3 on label (the author's assignment, or NULL)
 ``vectors``    spectrum_id, encoding (key), data (float32 blob)
 ``meta``       key, value: schema_version, encoding (JSON), revision, created_at, and from
                schema 2 on library_id (random hex, names this library for caches and backups)
@@ -50,8 +50,9 @@ if TYPE_CHECKING:
 
 #: Schema this reflib writes. 1: the first layout. 2: meta rows library_id and reflib_version;
 #: peaks indexed by (spectrum_id, position), which serves both the lookup and the ordering of
-#: :meth:`Store.peaks_of` without a sort.
-SCHEMA_VERSION = 2
+#: :meth:`Store.peaks_of` without a sort. 3: peaks.label, the author's assignment of a typed
+#: band ("C=O"), NULL where none was given.
+SCHEMA_VERSION = 3
 ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
 ROLE_ALIASES = {
     "sm": "starting material",
@@ -136,8 +137,8 @@ class VectorSet:
 
 
 PEAKS_INSERT = (
-    "INSERT INTO peaks(spectrum_id, position, intensity, width, strength, broad, shoulder)"
-    " VALUES (?, ?, ?, ?, ?, ?, ?)"
+    "INSERT INTO peaks(spectrum_id, position, intensity, width, strength, broad, shoulder, label)"
+    " VALUES (?, ?, ?, ?, ?, ?, ?, ?)"
 )
 VECTORS_INSERT = "INSERT INTO vectors(spectrum_id, encoding, data) VALUES (?, ?, ?)"
 
@@ -184,15 +185,17 @@ def spectrum_row(
 
 def peak_rows(spectrum_id: int, peaks: PeakList) -> list[tuple]:
     """The ``peaks`` rows of one peak list, in :data:`PEAKS_INSERT` column order."""
+    labels = peaks.labels if peaks.labels is not None else [None] * len(peaks)
     return [
-        (spectrum_id, pos, inten, None if w != w else w, word, int(b), int(sh))
-        for pos, inten, w, word, b, sh in zip(
+        (spectrum_id, pos, inten, None if w != w else w, word, int(b), int(sh), label)
+        for pos, inten, w, word, b, sh, label in zip(
             peaks.positions.tolist(),
             peaks.intensities.tolist(),
             peaks.widths.tolist(),
             peaks.strengths,
             peaks.broad.tolist(),
             peaks.shoulder.tolist(),
+            labels,
         )
     ]
 
@@ -612,7 +615,7 @@ class Store:
 
     def peaks_of(self, spectrum_id: int) -> PeakList:
         rows = self.conn.execute(
-            "SELECT position, intensity, width, strength, broad, shoulder FROM peaks "
+            "SELECT position, intensity, width, strength, broad, shoulder, label FROM peaks "
             "WHERE spectrum_id = ? ORDER BY position",
             (int(spectrum_id),),
         ).fetchall()
@@ -620,7 +623,7 @@ class Store:
         meta = Metadata(**{**_meta_from_json(rec["meta"]), "prep": _split_prep(rec["prep"])})
         if not rows:
             return PeakList(np.zeros(0), np.zeros(0), meta=meta)
-        pos, inten, width, strength, broad, shoulder = zip(*rows)
+        pos, inten, width, strength, broad, shoulder, label = zip(*rows)
         return PeakList(
             np.array(pos, float),
             np.array(inten, float),
@@ -629,6 +632,7 @@ class Store:
             np.array(broad, bool),
             np.array(shoulder, bool),
             meta=meta,
+            labels=list(label) if any(v is not None for v in label) else None,
         )
 
     def full_spectrum(self, spectrum_id: int) -> Spectrum | None:
@@ -790,5 +794,13 @@ def _migrate_1_to_2(conn: sqlite3.Connection) -> None:
     )
 
 
+def _migrate_2_to_3(conn: sqlite3.Connection) -> None:
+    """Schema 3: ``peaks.label``, the author's assignment of a typed band, NULL for every band
+    stored before (a nullable column added in place: every row is kept as it was)."""
+    columns = {r[1] for r in conn.execute("PRAGMA table_info(peaks)")}
+    if "label" not in columns:
+        conn.execute("ALTER TABLE peaks ADD COLUMN label TEXT")
+
+
 #: Migration steps: MIGRATIONS[n] turns a schema n-1 library into schema n.
-MIGRATIONS = {2: _migrate_1_to_2}
+MIGRATIONS = {2: _migrate_1_to_2, 3: _migrate_2_to_3}

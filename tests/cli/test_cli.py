@@ -158,3 +158,22 @@ def test_export_writes_files_that_read_back(libpath, tmp_path):
     assert r.returncode == 0 and len(list((tmp_path / "csv").glob("*.csv"))) == 2
     r = reflib("export", "-L", str(libpath), str(tmp_path / "x"), "--format", "xls")
     assert r.returncode == 2 and "jcamp" in r.stderr
+
+
+def test_show_prints_the_authors_labels_beside_reflibs_reading(tmp_path):
+    """An ester C=O near 1745 cm-1 and C-O near 1240 cm-1 (common practice, no source)."""
+    p = tmp_path / "lib.sqlite"
+    assert runner.invoke(app, ["init", str(p)]).exit_code == 0
+    line = "Rf 0.4; IR (film) 2985 (m), 1745 (vs, C=O), 1240 (s, C-O) cm-1; 1H NMR δ 4.1 (q, 2H)"
+    r = runner.invoke(app, ["add", "-L", str(p), "--name", "ethyl ester X", "--peaks", line])
+    assert r.exit_code == 0, r.output
+    r = runner.invoke(app, ["show", "-L", str(p), "ethyl ester X"])
+    assert r.exit_code == 0, r.output
+    assert "1745 vs (C=O), 1240 s (C-O)" in r.output
+    assert "author says C=O at 1745; reflib: " in r.output
+    r = runner.invoke(app, ["show", "-L", str(p), "ethyl ester X", "--json"])
+    spectrum = json.loads(r.output)["spectra"][0]
+    assert [q.get("label") for q in spectrum["peaks"]] == [None, "C=O", "C-O"]
+    notes = {n["position"]: n for n in spectrum["label_notes"]}
+    assert notes[1745.0]["author"] == "C=O" and "C=O" in notes[1745.0]["reflib"]
+    assert notes[1745.0]["agree"] is True

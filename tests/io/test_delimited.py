@@ -12,8 +12,13 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from reflib.errors import ReadError, ReflibError, ValidationError
-from reflib.io.delimited import baseline_side, parse_delimited, write_delimited
-from reflib.spectrum import Spectrum
+from reflib.io.delimited import (
+    baseline_side,
+    parse_delimited,
+    write_delimited,
+    write_peak_table,
+)
+from reflib.spectrum import PeakList, Spectrum
 
 
 def _absorbance(x: np.ndarray) -> np.ndarray:
@@ -327,3 +332,28 @@ def test_baseline_side_signs():
     rel_t, asym_t = baseline_side(10.0**-a)
     assert rel_a < 0.1 and asym_a > 0.6
     assert rel_t > 0.9 and asym_t < -0.6
+
+
+def test_peak_table_has_a_label_column_when_the_author_gave_labels():
+    import csv
+    import io
+
+    peaks = PeakList(
+        [3400.0, 1740.0, 1240.0],
+        [0.5, 1.0, 0.7],
+        [150.0, float("nan"), float("nan")],
+        broad=[True, False, False],
+        labels=["OH", "C=O, ester", None],
+    )
+    rows = list(csv.reader(io.StringIO(write_peak_table(peaks))))
+    assert rows[0][-1] == "label"
+    assert [r[0] for r in rows[1:]] == ["3400.00", "1740.00", "1240.00"]
+    assert [r[-1] for r in rows[1:]] == ["OH", "C=O, ester", ""]
+    assert rows[1][2] == "150.00" and rows[2][2] == "" and rows[1][4] == "1"
+    plain = write_peak_table(PeakList([1715.0], [1.0]))
+    assert (
+        plain
+        == "position_cm-1,intensity,width_cm-1,strength,broad,shoulder\n1715.00,1.0000,,vs,0,0\n"
+    )
+    with pytest.raises(ValidationError):
+        write_peak_table(peaks, sep="|")

@@ -599,6 +599,21 @@ def test_peak_list_round_trip(peaks):
     assert back.meta.prep == ["atr"]
 
 
+def test_peak_table_writes_author_labels_in_a_private_label():
+    """Labels go in a '##$' label (JCAMP-DX 5.01: '##$' labels are private to the writer)."""
+    peaks = PeakList([1745.0, 2250.0, 1240.0], [1.0, 0.2, 0.6], labels=["ester C=O", "C≡N", None])
+    text = write_jcamp(peaks)
+    lines = text.splitlines()
+    k = lines.index("##$REFLIB PEAK LABELS=(XA)")
+    assert lines[k + 1 : k + 3] == ["(1745,<ester C=O>)", "(2250,<C≡N>)"]
+    assert lines[k + 3].startswith("##")  # the band without a label has no line
+    back = parse_jcamp(text)[0]  # the file still reads, positions and words unchanged
+    assert back.positions.tolist() == [1240.0, 1745.0, 2250.0]
+    assert back.strengths == peaks.strengths
+    assert not any("LABELS" in key for key in back.meta.extra)
+    assert "PEAK LABELS" not in write_jcamp(PeakList([1715.0], [1.0]))
+
+
 # --------------------------------------------------------------------------------------------
 # Robustness: anything malformed gives ReadError (a ReflibError), never another exception
 # --------------------------------------------------------------------------------------------

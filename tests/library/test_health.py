@@ -112,7 +112,7 @@ def test_fresh_library_is_healthy(libpath):
     r = reflib("check", "-L", libpath, "--json")
     assert r.returncode == 0, r.stderr
     d = json.loads(r.stdout)
-    assert d["healthy"] is True and d["schema_version"] == 2
+    assert d["healthy"] is True and d["schema_version"] == 3
     assert all(f["severity"] == "notice" for f in d["findings"])
 
 

@@ -134,13 +134,15 @@ def test_v1_library_migrates_keeping_every_row(v1):
     before = dump(v1)
     assert len(before["peaks"]) == 18 and len(before["spectra"]) == 4
     s = Store.open(v1)
-    assert s.schema_version == SCHEMA_VERSION == 2
+    assert s.schema_version == SCHEMA_VERSION == 3
     assert re.fullmatch(r"[0-9a-f]{32}", s.get_meta("library_id"))
     assert s.get_meta("reflib_version")
     s.close()
     after = dump(v1)
-    for table in ("compounds", "spectra", "peaks", "vectors"):
+    for table in ("compounds", "spectra", "vectors"):
         assert after[table] == before[table], table
+    # schema 3 adds peaks.label: every band is kept as it was, with no label
+    assert after["peaks"] == [(*row, None) for row in before["peaks"]]
     new_meta = {k for k, _ in after["meta"]} - {k for k, _ in before["meta"]}
     assert new_meta == {"library_id", "reflib_version"}
     assert dict(after["meta"])["revision"] == "8"  # one write: the migration
@@ -234,3 +236,23 @@ def test_new_library_equals_a_migrated_one(tmp_path, v1):
         return rows, cols
 
     assert layout(fresh) == layout(v1)
+
+
+def test_schema_2_library_gains_the_label_column_keeping_every_row(v1, monkeypatch):
+    """A file left at schema 2 (as reflib wrote it before band labels) migrates to 3."""
+    monkeypatch.setattr(store_mod, "SCHEMA_VERSION", 2)
+    Store.open(v1).close()
+    assert Store.open(v1, migrate=False).schema_version == 2
+    before = dump(v1)
+    monkeypatch.undo()
+    s = Store.open(v1)
+    assert s.schema_version == 3
+    s.close()
+    after = dump(v1)
+    for table in ("compounds", "spectra", "vectors"):
+        assert after[table] == before[table], table
+    assert after["peaks"] == [(*row, None) for row in before["peaks"]]
+    assert len(list(v1.parent.glob("group.sqlite.v2-backup-*"))) == 1
+    with Library.open(v1) as lib:
+        assert lib.peaks(1).labels is None
+        assert check_library(lib).healthy

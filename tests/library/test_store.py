@@ -124,3 +124,26 @@ def test_list_match_escapes_like_wildcards(tmp_path):
         s.insert_compound({"name": "50% ester", "role": "other"})
         s.insert_compound({"name": "5 ester", "role": "other"})
     assert [r["name"] for r in s.list_compounds(match="0%")] == ["50% ester"]
+
+
+def test_author_labels_are_stored_and_read_back(tmp_path):
+    """Labels of a typed list (issue 18) go into peaks.label, through add and bulk add."""
+    from reflib.io.peaktext import parse_peak_text
+    from reflib.library import Library
+
+    typed = "IR (film) 3400 (br, OH), 2960 (m), 1740 (vs, ester C=O), 1240 (s, C-O) cm-1"
+    with Library.create(tmp_path / "lib.sqlite") as lib:
+        first = lib.add(parse_peak_text(typed), name="ethyl lactate-ish", check_similar=False)
+        lib.add_many([{"data": parse_peak_text(typed.replace("3400", "3410")), "name": "copy"}])
+        for sid in (first.spectrum_id, first.spectrum_id + 1):
+            back = lib.peaks(sid)
+            assert back.labels == ["C-O", "ester C=O", None, "OH"]
+        rows = lib.store.conn.execute(
+            "SELECT position, label FROM peaks WHERE spectrum_id = ? ORDER BY position",
+            (first.spectrum_id,),
+        ).fetchall()
+        assert rows == [(1240.0, "C-O"), (1740.0, "ester C=O"), (2960.0, None), (3400.0, "OH")]
+        shown = lib.show("ethyl lactate-ish")["spectra"][0]["peaks"]
+        assert [p.get("label") for p in shown] == ["OH", None, "ester C=O", "C-O"]
+        lib.add(PeakList([1715.0], [1.0]), name="no labels", check_similar=False)
+        assert lib.peaks(first.spectrum_id + 2).labels is None
