@@ -30,7 +30,7 @@ import numpy as np
 from reflib.analysis.encode import DEFAULT_ENCODING, coverage_mask
 from reflib.analysis.search import CAUTION, MASKED_BELOW, MATCH_TOLERANCE, match_bands
 from reflib.chem import prep as prep_mod
-from reflib.chem.bands import top_groups
+from reflib.chem.groups import labels_for
 from reflib.errors import ValidationError
 from reflib.spectrum import PeakList, Spectrum
 
@@ -198,20 +198,19 @@ def compare(
     pairs = match_bands(sa, sb, tolerance=tolerance)
     used_a = {i for i, _ in pairs}
     used_b = {j for _, j in pairs}
-    phase_prep = tokens
+    # labels from each side's own group analysis (reflib.chem.groups), by position
+    labels = {id(sa): labels_for(pa, prep=tokens), id(sb): labels_for(pb, prep=tokens)}
 
     def note(pl: PeakList, i: int) -> BandNote:
         p = list(pl)[i]
-        return BandNote(
-            p.position, p.intensity, p.strength, p.broad,
-            top_groups(p.position, p.strength, p.broad, p.width, phase_prep),
-        )  # fmt: skip
+        groups = labels[id(pl)].get(p.position, [])
+        return BandNote(p.position, p.intensity, p.strength, p.broad, groups)
 
     a_list, b_list = list(sa), list(sb)
     matched = []
     for i, j in pairs:
         pa_i, pb_j = a_list[i], b_list[j]
-        groups = top_groups(pb_j.position, pb_j.strength, pb_j.broad, pb_j.width, phase_prep)
+        groups = labels[id(sb)].get(pb_j.position, [])
         matched.append(
             BandPair(pa_i.position, pb_j.position, pa_i.intensity, pb_j.intensity, groups)
         )

@@ -12,7 +12,8 @@ one:
 - it is ``absent`` only when a key window of at least medium strength (or all key windows) is
   clean, inside the spectrum's range, not spoiled by the preparation, and the detection floor
   (``noise``, or the weakest picked band) is below what the band would show; ``support+`` rows
-  must be clean too (alkenes and alkynes whose =C-H or C-H may be missing). Otherwise the call
+  must be clean too (alkenes and alkynes whose =C-H or C-H may be missing), and so must
+  ``clean`` rows, which only guard absence (the C-H of CHCl3 near 3030). Otherwise the call
   is ``possible``;
 - the carbonyl classes compete for one C=O band: the class with the most telling evidence claims
   it (anhydride, acid chloride, acid, aldehyde, ester, amide, then ketone), the others drop to
@@ -50,7 +51,7 @@ RULES_FILE = "group_rules.csv"
 VOCABULARY_FILE = "group_vocabulary.csv"
 ELEMENTS_FILE = "group_elements.csv"
 CALLS = ("present", "possible", "absent")
-NEEDS = ("key", "support", "support+")
+NEEDS = ("key", "support", "support+", "clean")
 CAUTION = "a group call is a reading of the spectrum, not a structure proof"
 
 _LEVEL = {"vw": 0, "w": 1, "m": 2, "s": 3, "vs": 4}
@@ -554,7 +555,7 @@ def _call_group(
         )
         if r.need == "key":
             key_sets.setdefault(r.alt or f"#{i}", []).append((r, hit is not None))
-        else:
+        elif r.need != "clean":
             n_support += 1
             supports += hit is not None
     keys_seen = sum(any(ok for _, ok in s) for s in key_sets.values())
@@ -597,7 +598,7 @@ def _absent(
     if not key_sets:
         return False
     for r in mine:
-        if r.need == "support+" and not _clean(r, usable, phase, prep, covered, floor):
+        if r.need in ("support+", "clean") and not _clean(r, usable, phase, prep, covered, floor):
             return False
 
     def set_clean(members: list[tuple[Rule, bool]]) -> bool:
@@ -712,6 +713,22 @@ def _allowed_ids(report: GroupReport) -> set[str]:
     return out
 
 
+def _label(group: str, role: str) -> str:
+    """``'alkyl C-H stretch'`` rather than ``'alkyl C-H C-H stretch'``."""
+    first, _, rest = role.partition(" ")
+    if rest and group.split()[-1] == first:
+        return f"{group} {rest}"
+    return f"{group} {role}"
+
+
+def _allowed_fallback(report: GroupReport, allowed: set[str]) -> set[str]:
+    """Of ``allowed``, the ids a band with no evidence may be read as: a group of the
+    vocabulary only when called present (a possible one is named only at its own evidence)."""
+    present = set(report.named("present"))
+    voc = _vocabulary_of()
+    return {sid for sid in allowed if sid not in voc or voc[sid] in present}
+
+
 def band_labels(
     peaks: PeakList,
     report: GroupReport | None = None,
@@ -736,20 +753,34 @@ def band_labels(
     else:
         own = None
     by_pos: dict[float, list[str]] = {}
+    windows: list[tuple[float, float, str]] = []
     for c in report.groups:
         if c.call == "absent" or (own is not None and c.group not in own):
             continue
         mark = "" if c.call == "present" else "?"
         for e in c.evidence:
+            if e.need == "clean":
+                continue
+            text = _label(c.group, e.role) + mark
             if e.seen and e.cm1 is not None:
-                by_pos.setdefault(e.cm1, []).append(f"{c.group} {e.role}{mark}")
+                by_pos.setdefault(e.cm1, []).append(text)
+            if c.call == "present":
+                windows.append((e.window[0], e.window[1], text))
+    fallback = _allowed_fallback(report, allowed)
     support = [float(x) for x in peaks.positions]
     out: list[list[str]] = []
     for p in peaks:
         if p.position in report.explained:
             out.append([report.explained[p.position]])
             continue
-        found = sorted(by_pos.get(p.position, []), key=lambda t: t.endswith("?"))
+        here = by_pos.get(p.position, [])
+        found = [t for t in here if not t.endswith("?")]
+        if not found:  # another branch or band of a group called present
+            found = list(dict.fromkeys(t for lo, hi, t in windows if lo <= p.position <= hi))
+        if not found:
+            found = here
+        if len(found) > 1:  # the class names the C=O better than "carbonyl"
+            found = [t for t in found if not t.startswith("carbonyl ")] or found
         if found:
             out.append(found[:top])
             continue
@@ -760,7 +791,7 @@ def band_labels(
             width=p.width if math.isfinite(p.width) else None,
             top=top,
             phase=report.phase,
-            groups=allowed,
+            groups=fallback,
             support=support,
         )
         best = cands[0].score if cands else 0.0

@@ -11,6 +11,7 @@ import sys
 
 import typer
 
+import reflib.cli.groups  # noqa: F401  (registers the groups command)
 from reflib.cli import analysis, demo, health, library, search  # noqa: F401  (each registers its commands)
 from reflib.cli.common import app
 from reflib.errors import ReflibError
