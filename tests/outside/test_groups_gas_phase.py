@@ -149,6 +149,86 @@ def test_every_file_is_scored_or_left_out_with_a_reason(gas_phase: Path) -> None
     assert stems == set(STRUCTURES) | LEFT_OUT
 
 
+@pytest.fixture(scope="module")
+def table(gas_phase: Path) -> dict[str, dict[str, int]]:
+    return score_all(gas_phase)
+
+
+def test_overall_precision_and_recall_of_present_calls(table: dict[str, dict[str, int]]) -> None:
+    """Issue targets: precision >= 0.9 and recall >= 0.8 over the vocabulary. Measured when
+    written: 85 true, 8 false present calls, 21 missed (precision 0.91, recall 0.80)."""
+    tot = totals(table)
+    assert tot["precision"] >= 0.9, tot
+    assert tot["recall"] >= 0.8, tot
+
+
+def test_no_true_group_is_called_absent(table: dict[str, dict[str, int]]) -> None:
+    assert {g: r["absent_true"] for g, r in table.items() if r["absent_true"]} == {}
+
+
+@pytest.mark.parametrize(
+    ("group", "min_precision", "min_recall"),
+    [
+        ("carbonyl", 1.0, 1.0),
+        ("ester", 1.0, 0.3),
+        ("alcohol", 1.0, 0.6),
+        ("ether", 1.0, 1.0),
+        ("C-F", 1.0, 1.0),
+        ("C-Cl", 1.0, 0.7),
+        ("alkyl C-H", 0.9, 0.8),
+        ("aromatic", 0.6, 1.0),
+    ],
+)
+def test_per_group_figures(
+    table: dict[str, dict[str, int]], group: str, min_precision: float, min_recall: float
+) -> None:
+    """Per-group floors at (or just under) what the rules reach; see docs/groups.md."""
+    r = table[group]
+    assert r["tp"] / max(1, r["tp"] + r["fp"]) >= min_precision, r
+    assert r["tp"] / max(1, r["tp"] + r["fn"]) >= min_recall, r
+
+
+def test_groups_never_called_present_without_their_truth(table: dict[str, dict[str, int]]) -> None:
+    """None of the 66 compounds is an acid, amide, anhydride, acid chloride, aldehyde, amine,
+    phenol, nitro compound or alkyne: no such call may be present."""
+    for g in ("carboxylic acid", "amide", "anhydride", "acid chloride", "aldehyde", "amine",
+              "phenol", "nitro", "alkyne"):  # fmt: skip
+        assert table[g]["fp"] == 0, g
+
+
+def test_no_label_needs_an_element_the_molform_lacks(gas_phase: Path) -> None:
+    """Every band label on every file with a ##MOLFORM names only groups whose elements the
+    formula holds (element needs: reflib/data/group_elements.csv)."""
+    words = {
+        "N": ("nitro", "amine", "amide", "nitrile", "oxime", "imine", "azide", "isocyan"),
+        "S": ("sulf", "thiol", "C-S"),
+        "P": ("phosph",),
+        "Br": ("C-Br", "-Br"),
+        "I": ("C-I ", "-I wag"),
+        "Cl": ("C-Cl", "acid chloride"),
+        "F": ("C-F",),
+        "Si": ("Si-", "silo"),
+        "O": ("C=O", "O-H", "C-O", "ester", "ether", "ketone", "alcohol"),
+    }
+    checked = 0
+    for stem in STRUCTURES:
+        peaks, covered = _peaks(gas_phase / f"{stem}.jdx")
+        text = groups.formula_of(peaks)
+        if text is None:
+            continue
+        elements = groups.formula_elements(text)
+        report = groups.analyse(peaks, covered=covered)
+        labels = [lab for band in groups.band_labels(peaks, report) for lab in band]
+        for element, fragments in words.items():
+            if element in elements:
+                continue
+            bad = [lab for lab in labels if any(f in lab for f in fragments)]
+            bad = [lab for lab in bad if "overtone" not in lab and "preparation" not in lab]
+            assert not bad, (stem, element, bad)
+        checked += 1
+    assert checked >= 55
+
+
 if __name__ == "__main__":  # pragma: no cover - prints the table for docs/groups.md
     import sys
 
