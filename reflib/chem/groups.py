@@ -129,6 +129,7 @@ class Evidence:
     window: tuple[float, float]
     cm1: float | None = None
     seen: bool = False
+    level: int = -1  # strength level of the band seen (vw 0 .. vs 4)
 
     def to_dict(self) -> dict[str, Any]:
         centre = 0.5 * (self.window[0] + self.window[1])
@@ -285,10 +286,9 @@ def structure_elements() -> dict[str, frozenset[str]]:
 def _vocabulary_of() -> dict[str, str]:
     """Structure group id -> vocabulary group (the most specific one covering it)."""
     out: dict[str, str] = {}
-    for g in vocabulary():
+    for g in sorted(vocabulary(), key=lambda g: g.name == "carbonyl"):
         for sid in g.structure_ids:
-            if g.name != "carbonyl" or sid not in out:
-                out.setdefault(sid, g.name)
+            out.setdefault(sid, g.name)
     return out
 
 
@@ -370,6 +370,11 @@ def _explain(
             if abs(p.position - pos) <= max(8.0, 0.5 * fwhm):
                 explained[p.position] = f"band of the preparation ({token})"
                 break
+    for p in peaks:  # the air's CO2, weak: a purge that was not perfect
+        if p.position not in explained and _LEVEL[p.strength] <= _LEVEL["w"]:
+            for row in bands.table():
+                if row.id.startswith("air_co2") and row.lo_cm1 <= p.position <= row.hi_cm1:
+                    explained[p.position] = row.label
     co = _strongest_co(peaks, explained, phase)
     if co is not None:
         for p in peaks:
@@ -478,8 +483,25 @@ def analyse(
         for p in peaks
         if p.position not in explained
     ]
-    calls = [_call_group(g, usable, phase, tokens, elements, covered, floor) for g in vocabulary()]
+    # the C=O band (both branches in the gas) is the carbonyl's: no other group's evidence
+    near_co = 2.0 * bands.GAS_BRANCH_CM1 if phase == "gas" else CONDENSED_TOLERANCE_CM1
+    not_co = [
+        b for b in usable if co is None or abs(b.position - co) > near_co or b.level < _LEVEL["m"]
+    ]
+    calls = [
+        _call_group(
+            g,
+            usable if g.co_class is not None or g.name == "carbonyl" else not_co,
+            phase,
+            tokens,
+            elements,
+            covered,
+            floor,
+        )
+        for g in vocabulary()
+    ]
     by_name = {c.group: c for c in calls}
+    _shared_evidence(calls)
     _compete_for_co(calls)
     _cross_checks(by_name)
     query = {
@@ -550,7 +572,12 @@ def _call_group(
         hit = _seen(r, usable, phase)
         evidence.append(
             Evidence(
-                r.role, r.need, r.window(phase), hit.position if hit else None, hit is not None
+                r.role,
+                r.need,
+                r.window(phase),
+                hit.position if hit else None,
+                hit is not None,
+                hit.level if hit else -1,
             )
         )
         if r.need == "key":
@@ -644,6 +671,34 @@ def _compete_for_co(calls: list[GroupCall]) -> None:
             claimed[b] = c.group
 
 
+#: Groups whose bands sit where every organic compound's C-H, ring and alkyne bands do (from
+#: memory, common practice of reading spectra): a band another group called present needs is no
+#: evidence for them.
+MIMICKED = ("nitro", "epoxide", "amide", "amine")
+
+
+def _shared_evidence(calls: list[GroupCall]) -> None:
+    taken: dict[float, str] = {}
+    for c in calls:
+        if c.call != "present" or c.group in MIMICKED or c.group == "carbonyl":
+            continue
+        for e in c.evidence:
+            if e.seen and e.need == "key" and e.cm1 is not None:
+                taken.setdefault(e.cm1, c.group)
+    defs = {g.name: g for g in vocabulary()}
+    for c in calls:
+        if c.group not in MIMICKED or c.call != "present":
+            continue
+        shared = [e for e in c.evidence if e.seen and e.cm1 in taken and e.need != "clean"]
+        keys_lost = any(e.need == "key" and "C=O" not in e.role for e in shared)
+        supports_left = sum(
+            e.seen and e.cm1 not in taken for e in c.evidence if e.need in ("support", "support+")
+        )
+        if keys_lost or supports_left < defs[c.group].min_support:
+            e = shared[0]
+            _demote(c, f"the {e.cm1:.0f} band is the {taken[e.cm1]}'s ({e.role} needs it too)")
+
+
 def _oh_seen(by_name: dict[str, GroupCall]) -> float | None:
     for name in ("alcohol", "phenol", "carboxylic acid"):
         for e in by_name[name].evidence:
@@ -686,6 +741,24 @@ def _cross_checks(by_name: dict[str, GroupCall]) -> None:
     if oh is not None:
         _demote(by_name["amine"], f"the band at {oh:.0f} may be an O-H")
     alkene = by_name["alkene"]
+    aromatic = by_name["aromatic"]
+    cc = next((e for e in alkene.evidence if e.role == "C=C stretch" and e.seen), None)
+    ring = next((e for e in aromatic.evidence if e.role == "ring stretch near 1600"), None)
+    if (
+        aromatic.call == "present"
+        and cc is not None
+        and cc.level >= _LEVEL["m"]
+        and any(e.seen for e in alkene.evidence if e.need == "key")
+        and not (ring is not None and ring.seen and ring.level >= _LEVEL["m"])
+    ):
+        # an alkene's C=C stretch is medium or strong; an aromatic ring shows nothing of that
+        # strength at 1680-1620 unless its own 1600 band is as strong (from memory)
+        _demote(aromatic, f"the {cc.cm1:.0f} band reads as an alkene C=C stretch")
+        alkene.against = [a for a in alkene.against if "aromatic" not in a]
+        supports = sum(e.seen for e in alkene.evidence if e.need in ("support", "support+"))
+        keys = all(e.seen for e in alkene.evidence if e.need == "key")
+        if alkene.call == "possible" and keys and supports >= 1 and not alkene.against:
+            alkene.call = "present"
     if by_name["aromatic"].call == "present" and alkene.call == "present":
         if not all(e.seen for e in alkene.evidence if e.need == "support+"):
             _demote(alkene, "aromatic ring bands cover the =C-H and C=C windows")
@@ -726,7 +799,18 @@ def _allowed_fallback(report: GroupReport, allowed: set[str]) -> set[str]:
     vocabulary only when called present (a possible one is named only at its own evidence)."""
     present = set(report.named("present"))
     voc = _vocabulary_of()
-    return {sid for sid in allowed if sid not in voc or voc[sid] in present}
+    elements = report.elements if report.elements is not None else COMMON_ELEMENTS
+    needs = structure_elements()
+    return {
+        sid
+        for sid in allowed
+        if (voc[sid] in present if sid in voc else needs.get(sid, frozenset()) <= elements)
+    }
+
+
+#: Without a formula a band with no other evidence is read only as a group of these elements:
+#: a heteroatom group (S, P, Si, N-O...) from one band is the classic false label.
+COMMON_ELEMENTS = frozenset({"C", "H", "O"})
 
 
 def band_labels(
@@ -754,9 +838,12 @@ def band_labels(
         own = None
     by_pos: dict[float, list[str]] = {}
     windows: list[tuple[float, float, str]] = []
+    confirm = {g.name: g.confirm_elements for g in vocabulary()}
     for c in report.groups:
         if c.call == "absent" or (own is not None and c.group not in own):
             continue
+        if confirm[c.group] and not (report.elements and confirm[c.group] <= report.elements):
+            continue  # a halogen is named only when the formula (or structure) holds it
         mark = "" if c.call == "present" else "?"
         for e in c.evidence:
             if e.need == "clean":
