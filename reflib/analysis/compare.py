@@ -135,7 +135,19 @@ def _peaks(data: Spectrum | PeakList, name: str) -> PeakList:
 
 
 def _label(groups: list[str]) -> str:
-    return f" ({groups[0]}?)" if groups else ""
+    # labels from reflib.chem.groups carry their own "?" when tentative
+    return f" ({groups[0]})" if groups else ""
+
+
+def _labels(pl: PeakList, info: dict[str, Any] | None, tokens: list[str]) -> dict:
+    """Band labels of one side: from its own structure's groups when a library entry has one."""
+    smiles = (info or {}).get("smiles")
+    ids = None
+    if smiles:
+        from reflib.chem.structure import functional_groups
+
+        ids = functional_groups(smiles)
+    return labels_for(pl, prep=tokens, structure_ids=ids)
 
 
 def compare(
@@ -199,7 +211,7 @@ def compare(
     used_a = {i for i, _ in pairs}
     used_b = {j for _, j in pairs}
     # labels from each side's own group analysis (reflib.chem.groups), by position
-    labels = {id(sa): labels_for(pa, prep=tokens), id(sb): labels_for(pb, prep=tokens)}
+    labels = {id(sa): _labels(pa, a_info, tokens), id(sb): _labels(pb, b_info, tokens)}
 
     def note(pl: PeakList, i: int) -> BandNote:
         p = list(pl)[i]
