@@ -365,11 +365,21 @@ def _explain(
 
     explained: dict[float, str] = {}
     own = prep_mod.own_bands(prep, air=False) if prep else []
+    hidden = prep_mod.regions_for(prep, air=False) if prep else []
     for p in peaks:
-        for pos, _inten, fwhm, token in own:
-            if abs(p.position - pos) <= max(8.0, 0.5 * fwhm):
+        for pos, inten, fwhm, token in own:
+            # a weak band of the preparation explains a weak or medium band there, not a
+            # strong one (the sample's amide C=O on KBr's water bend); a main band explains any
+            if abs(p.position - pos) <= max(8.0, 0.5 * fwhm) and (
+                inten >= 0.5 or _LEVEL[p.strength] <= _LEVEL["m"]
+            ):
                 explained[p.position] = f"band of the preparation ({token})"
                 break
+        else:
+            for r in hidden:
+                if r.weight <= HIDDEN_WEIGHT and r.lo <= p.position <= r.hi:
+                    explained[p.position] = f"in a region the preparation spoils ({r.token})"
+                    break
     for p in peaks:  # the air's CO2, weak: a purge that was not perfect
         if p.position not in explained and _LEVEL[p.strength] <= _LEVEL["w"]:
             for row in bands.table():
@@ -736,8 +746,14 @@ def _cross_checks(by_name: dict[str, GroupCall]) -> None:
         _demote(by_name["alcohol"], "the O-H band may be the phenol's")
     if by_name["aromatic"].call != "present":
         _demote(by_name["phenol"], "no aromatic ring is called present")
-    if by_name["amide"].call == "present":
+    amide = by_name["amide"]
+    if amide.call == "present":
         _demote(by_name["amine"], "the N-H band may be the amide's")
+        nh = {e.cm1 for e in amide.evidence if e.seen and e.need != "key"}
+        for name in ("alcohol", "phenol", "nitro"):
+            shared = [e for e in by_name[name].evidence if e.seen and e.cm1 in nh]
+            if shared:
+                _demote(by_name[name], f"the {shared[0].cm1:.0f} band is the amide's")
     if oh is not None:
         _demote(by_name["amine"], f"the band at {oh:.0f} may be an O-H")
     alkene = by_name["alkene"]
@@ -851,7 +867,7 @@ def band_labels(
             text = _label(c.group, e.role) + mark
             if e.seen and e.cm1 is not None:
                 by_pos.setdefault(e.cm1, []).append(text)
-            if c.call == "present":
+            if c.call == "present" and e.need == "key":
                 windows.append((e.window[0], e.window[1], text))
     fallback = _allowed_fallback(report, allowed)
     support = [float(x) for x in peaks.positions]

@@ -164,3 +164,25 @@ def test_vocabulary_covers_the_issue_list_and_every_rule_has_a_source() -> None:
             assert n in names or chunk in names, n
     assert "alkyl C-H" in names
     assert all(r.source for r in groups.rules())
+
+
+def test_strong_band_on_a_weak_preparation_band_is_the_sample_s() -> None:
+    """KBr's absorbed water bends near 1635 (weak); an amide I band there is the sample's."""
+    pl = _pl(
+        [(3300, 0.5), (3060, 0.15), (1660, 1.0), (1550, 0.9), (1600, 0.5), (1500, 0.4),
+         (830, 0.8), (2960, 0.2), (1370, 0.4), (800, 0.01)],
+        prep=("kbr",),
+    )  # fmt: skip
+    rep = groups.analyse(pl, covered=COVER)
+    assert 1660.0 not in rep.explained
+    assert rep.call("amide").call == "present"
+    assert rep.call("nitro").call != "present"  # 1550 is the amide II band
+    assert rep.call("alcohol").call != "present"  # 3300 is the amide's N-H
+
+
+def test_mull_oil_regions_give_no_evidence() -> None:
+    pl = _pl([(2924, 1.0), (2853, 0.7), (1462, 0.4), (1715, 0.8), (800, 0.01)], prep=("nujol",))
+    rep = groups.analyse(pl, covered=COVER)
+    assert "preparation" in rep.explained[2924.0]
+    assert rep.call("alkyl C-H").call != "present"
+    assert rep.call("ketone").call == "present"
