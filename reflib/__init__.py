@@ -24,6 +24,7 @@ _LAZY = {
     "read_all": "reflib.io",
     "ReflibError": "reflib.errors",
     "Library": "reflib.library",
+    "groups": "reflib.chem.groups",
 }
 
 

@@ -30,7 +30,7 @@ import numpy as np
 from reflib.analysis.encode import DEFAULT_ENCODING, coverage_mask
 from reflib.analysis.search import CAUTION, MASKED_BELOW, MATCH_TOLERANCE, match_bands
 from reflib.chem import prep as prep_mod
-from reflib.chem.bands import top_groups
+from reflib.chem.groups import labels_for
 from reflib.errors import ValidationError
 from reflib.spectrum import PeakList, Spectrum
 
@@ -135,7 +135,19 @@ def _peaks(data: Spectrum | PeakList, name: str) -> PeakList:
 
 
 def _label(groups: list[str]) -> str:
-    return f" ({groups[0]}?)" if groups else ""
+    # labels from reflib.chem.groups carry their own "?" when tentative
+    return f" ({groups[0]})" if groups else ""
+
+
+def _labels(pl: PeakList, info: dict[str, Any] | None, tokens: list[str]) -> dict:
+    """Band labels of one side: from its own structure's groups when a library entry has one."""
+    smiles = (info or {}).get("smiles")
+    ids = None
+    if smiles:
+        from reflib.chem.structure import functional_groups
+
+        ids = functional_groups(smiles)
+    return labels_for(pl, prep=tokens, structure_ids=ids)
 
 
 def compare(
@@ -198,20 +210,19 @@ def compare(
     pairs = match_bands(sa, sb, tolerance=tolerance)
     used_a = {i for i, _ in pairs}
     used_b = {j for _, j in pairs}
-    phase_prep = tokens
+    # labels from each side's own group analysis (reflib.chem.groups), by position
+    labels = {id(sa): _labels(pa, a_info, tokens), id(sb): _labels(pb, b_info, tokens)}
 
     def note(pl: PeakList, i: int) -> BandNote:
         p = list(pl)[i]
-        return BandNote(
-            p.position, p.intensity, p.strength, p.broad,
-            top_groups(p.position, p.strength, p.broad, p.width, phase_prep),
-        )  # fmt: skip
+        groups = labels[id(pl)].get(p.position, [])
+        return BandNote(p.position, p.intensity, p.strength, p.broad, groups)
 
     a_list, b_list = list(sa), list(sb)
     matched = []
     for i, j in pairs:
         pa_i, pb_j = a_list[i], b_list[j]
-        groups = top_groups(pb_j.position, pb_j.strength, pb_j.broad, pb_j.width, phase_prep)
+        groups = labels[id(sb)].get(pb_j.position, [])
         matched.append(
             BandPair(pa_i.position, pb_j.position, pa_i.intensity, pb_j.intensity, groups)
         )

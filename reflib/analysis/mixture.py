@@ -29,7 +29,7 @@ from reflib.analysis.profiles import (
 )
 from reflib.analysis.search import CAUTION
 from reflib.chem import prep as prep_mod
-from reflib.chem.bands import top_groups
+from reflib.chem.groups import labels_for
 from reflib.errors import ValidationError
 from reflib.spectrum import PeakList, Spectrum
 
@@ -205,6 +205,7 @@ def _unexplained(
 
     peaks = strong_bands(sample, grid, Profile(signal, usable, noise, [], ""))
     out = []
+    labels = labels_for(peaks, prep=list(sample.meta.prep)) if len(peaks) else {}
     for p in peaks:
         if p.intensity < UNEXPLAINED_MIN_INTENSITY:
             continue
@@ -216,7 +217,7 @@ def _unexplained(
             continue
         left = float((signal[i] - max(model[i], 0.0)) / height)
         if left >= UNEXPLAINED_FRACTION:
-            groups = top_groups(p.position, p.strength, p.broad, p.width, list(sample.meta.prep))
+            groups = labels.get(p.position, [])
             out.append(UnexplainedBand(p.position, p.intensity, left, groups))
     out.sort(key=lambda u: -u.intensity * u.left)
     return out

@@ -87,8 +87,11 @@ def import_(
     force: bool = typer.Option(False, "--force", help="Add exact duplicates too."),
     library: Path = LibraryOpt,
 ) -> None:
-    """Add many spectra from a manifest CSV (columns file,name,prep,smiles,role,notebook,
-    operator,note; only file is required) or a folder of spectra."""
+    """Add many spectra from a manifest CSV or a folder of spectra.
+
+    Manifest columns: file,name,prep,smiles,role,notebook,operator,note (only file is required;
+    paths relative to the manifest).
+    """
     from reflib.library.importer import plan_import, run_import
 
     entries = plan_import(source, prep=prep, role=role)
@@ -141,13 +144,13 @@ def show(
     library: Path = LibraryOpt,
 ) -> None:
     """Show one compound, its provenance and its spectra's peak lists."""
-    from reflib.chem.bands import describe_all
+    from reflib.chem.groups import band_texts
     from reflib.io.peaktext import compare_labels
 
     with _open(library) as lib:
         c = lib.show(ref)
         for s in c["spectra"]:  # the author's labels beside reflib's reading of each band
-            notes = compare_labels(lib.peaks(int(s["id"])), describe_all)
+            notes = compare_labels(lib.peaks(int(s["id"])), band_texts)
             if notes:
                 s["label_notes"] = [n.to_dict() | {"text": n.text} for n in notes]
     if json_out:

@@ -25,9 +25,9 @@ def _peak_table(peaks: Any, assign: bool = False) -> str:
     lines = [f"{'cm-1':>8}  {'rel':>5}  {'FWHM':>6}  words"]
     notes = {}
     if assign:
-        from reflib.chem import bands
+        from reflib.chem.groups import band_texts
 
-        notes = dict(zip(peaks.positions.tolist(), bands.describe_all(peaks)))
+        notes = dict(zip(peaks.positions.tolist(), band_texts(peaks)))
     for p in peaks.descending():
         width = "" if p.width != p.width else f"{p.width:6.1f}"
         row = f"{p.position:8.1f}  {p.intensity:5.2f}  {width:>6}  {p.words()}"
@@ -62,6 +62,13 @@ def peaks(
         peak_list = obj
     if json_out:
         out = peak_list.to_dict()
+        if assign:
+            from reflib.chem.groups import CAUTION, band_labels
+
+            labels = dict(zip(peak_list.positions.tolist(), band_labels(peak_list)))
+            for row, pos in zip(out["peaks"], [p.position for p in peak_list.descending()]):
+                row["assignment"] = labels.get(pos, [])
+            out["caution"] = CAUTION
         if isinstance(obj, Spectrum):
             out["range_cm1"] = list(obj.range_cm1)
             out["points"] = int(obj.x.size)

@@ -976,7 +976,7 @@ def compare_labels(peaks: PeakList, lookup: Callable[[PeakList], Sequence[str]])
     """The author's label of each labelled band beside reflib's reading of it.
 
     ``lookup`` gives reflib's short reading of every band of a peak list, in its ascending
-    order (today :func:`reflib.chem.bands.describe_all`; any callable of that shape will do).
+    order (reflib uses :func:`reflib.chem.groups.band_texts`, the labeller of every output).
     Returns one :class:`LabelNote` per labelled band, high to low wavenumber; an empty list
     when the list has no labels (``lookup`` is then not called).
 

@@ -520,12 +520,12 @@ def _group_lookup(idx):
 
 def _annotate(hits: list[Hit], query: PeakList) -> None:
     """Label the new bands of each hit with candidate groups (the most telling bands), using
-    the query's own strength, shape and other bands (:func:`reflib.chem.bands.assign`)."""
+    the query's group analysis (:func:`reflib.chem.groups.band_texts`)."""
     if not any(h.new for h in hits):
         return  # nothing to label: skip the table look-ups (about 20 ms a query)
-    from reflib.chem import bands
+    from reflib.chem.groups import band_texts
 
-    labels = dict(zip(query.positions.tolist(), bands.describe_all(query)))
+    labels = dict(zip(query.positions.tolist(), band_texts(query)))
     for h in hits:
         for pos in h.new:
             text = labels.get(pos)

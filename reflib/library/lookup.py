@@ -47,6 +47,8 @@ def library_entry(
         "kind": "spectrum" if isinstance(data, Spectrum) else "peaks",
         "prep": list(data.meta.prep),
     }
+    if c.get("smiles"):  # its bands are then labelled from its own groups only
+        info["smiles"] = c["smiles"]
     return data, info
 
 

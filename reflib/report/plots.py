@@ -840,7 +840,8 @@ def plot_compare(
 
 
 def _band_text(pos: float, groups: Sequence[str], word: str) -> list[str]:
-    return _variants(pos, "? ".join(g.rstrip("?") for g in groups[:2]), word)
+    # labels come from reflib.chem.groups and carry their own "?" where tentative
+    return _variants(pos, "; ".join(groups[:2]), word)
 
 
 def _clip(text: str, n: int) -> str:
