@@ -169,16 +169,17 @@ def show(
 def remove(
     ref: str = typer.Argument(..., help="Compound id or name."),
     yes: bool = typer.Option(False, "--yes", help="Do not ask for confirmation."),
+    operator: str = typer.Option(None, "--operator", help="Who removes it (default: login)."),
     library: Path = LibraryOpt,
 ) -> None:
-    """Remove a compound and all its spectra."""
+    """Remove a compound and all its spectra (its history stays: 'reflib history')."""
     with _open(library) as lib:
         c = lib.store.find_compound(ref)
         if not yes:
             if not sys.stdin.isatty():
                 raise _usage(f"removing {c['name']!r} needs --yes when not run interactively")
             typer.confirm(f"remove {c['name']!r} and all its spectra?", abort=True)
-        out = lib.remove(int(c["id"]))
+        out = lib.remove(int(c["id"]), operator=operator)
     typer.echo(f"removed {out['name']!r} ({out['spectra']} spectra)")
 
 

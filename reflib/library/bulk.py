@@ -37,6 +37,7 @@ from reflib.library.entries import (
     structure_ids,
     to_peaks,
 )
+from reflib.library.history import record_many
 from reflib.library.store import (
     PEAKS_INSERT,
     VECTORS_INSERT,
@@ -250,7 +251,16 @@ def _add_chunk(
         _insert_rows(conn, "spectra", spectrum_rows)
         conn.executemany(PEAKS_INSERT, all_peaks)
         conn.executemany(VECTORS_INSERT, vector_rows)
+        record_many(store, [_history_row(p, r) for p, r in zip(prepared, results)])
     return results
+
+
+def _history_row(p: _Prepared, r: AddResult) -> tuple:
+    """The history record of one bulk-added spectrum (as :func:`history.record_add` writes)."""
+    source = getattr(p.data.meta, "source_file", None) or "no file name"
+    what = ("new compound; " if r.new_compound else "") + f"spectrum from {source}"
+    return ("add", r.compound_id, r.name, p.item.get("operator"), "spectrum", None,
+            r.spectrum_id, what)  # fmt: skip
 
 
 def _refuse_duplicates(lib: Any, prepared: list[_Prepared]) -> None:

@@ -41,6 +41,7 @@ from reflib.library.entries import (
     structure_ids,
     to_peaks,
 )
+from reflib.library.history import history_of, record, record_add
 from reflib.library.index import range_key
 from reflib.library.store import Store, normalise_role
 from reflib.spectrum import PeakList, Spectrum
@@ -186,6 +187,7 @@ class Library:
                 operator=operator,
                 notes=note if not new_compound else None,
             )
+            record_add(self.store, cid, name, sid, data, new_compound, operator)
         self._index = None
         return AddResult(cid, sid, name, new_compound, warnings)
 
@@ -474,13 +476,35 @@ class Library:
         c["spectra"] = spectra
         return c
 
-    def remove(self, ref: str | int) -> dict[str, Any]:
-        """Remove a compound and all its spectra; returns what was removed."""
-        c = self.store.find_compound(ref)
-        n = len(self.store.spectra_of(int(c["id"])))
-        self.store.remove_compound(int(c["id"]))
+    def remove(self, ref: str | int, *, operator: str | None = None) -> dict[str, Any]:
+        """Remove a compound and all its spectra; returns what was removed. The history keeps
+        its record (:meth:`history`)."""
+        with self.store.write():
+            c = self.store.find_compound(ref)
+            n = len(self.store.spectra_of(int(c["id"])))
+            record(self.store, "remove", compound_id=int(c["id"]),
+                           compound_name=c["name"], operator=operator,
+                           detail=f"{n} spectra removed")  # fmt: skip
+            self.store.remove_compound(int(c["id"]))
         self._index = None
         return {"compound_id": int(c["id"]), "name": c["name"], "spectra": n}
+
+    def edit(self, ref: str | int, **changes: Any) -> dict[str, Any]:
+        """Correct a compound (name, smiles, role, note, tag, untag, operator keywords of
+        :func:`reflib.library.edits.edit_compound`), each change recorded in the history."""
+        from reflib.library.edits import edit_compound
+
+        return edit_compound(self, ref, **changes)
+
+    def history(self, ref: str | int) -> list[dict[str, Any]]:
+        """Every recorded change of one compound, oldest first (also of a removed one)."""
+        return history_of(self.store, ref)
+
+    def merge(self, other: str | Path, *, operator: str | None = None):
+        """Bring another library's compounds and spectra in (:mod:`reflib.library.merge`)."""
+        from reflib.library.merge import merge_library
+
+        return merge_library(self, other, operator=operator)
 
     def peaks(self, spectrum_id: int) -> PeakList:
         """The stored peak list of one spectrum."""

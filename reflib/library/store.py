@@ -50,8 +50,10 @@ if TYPE_CHECKING:
 
 #: Schema this reflib writes. 1: the first layout. 2: meta rows library_id and reflib_version;
 #: peaks indexed by (spectrum_id, position), which serves both the lookup and the ordering of
-#: :meth:`Store.peaks_of` without a sort.
-SCHEMA_VERSION = 2
+#: :meth:`Store.peaks_of` without a sort. 3: a ``history`` table (every add, remove, merge and
+#: edit with time, operator, old and new value) and ``spectra.source_library`` (where a merged
+#: spectrum came from).
+SCHEMA_VERSION = 3
 ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
 ROLE_ALIASES = {
     "sm": "starting material",
@@ -790,5 +792,25 @@ def _migrate_1_to_2(conn: sqlite3.Connection) -> None:
     )
 
 
+def _migrate_2_to_3(conn: sqlite3.Connection) -> None:
+    """Schema 3: the change history and the source library of merged spectra.
+
+    ``history`` has no foreign key to ``compounds``: a removed compound's record stays. Every
+    existing row is kept; old spectra get ``source_library`` NULL (added here, not merged).
+    """
+    conn.execute(
+        "CREATE TABLE IF NOT EXISTS history (id INTEGER PRIMARY KEY, at TEXT NOT NULL, "
+        "operator TEXT, action TEXT NOT NULL, compound_id INTEGER, compound_name TEXT, "
+        "field TEXT, old TEXT, new TEXT, detail TEXT)"
+    )
+    conn.execute("CREATE INDEX IF NOT EXISTS idx_history_compound ON history(compound_id)")
+    conn.execute(
+        "CREATE INDEX IF NOT EXISTS idx_history_name ON history(compound_name COLLATE NOCASE)"
+    )
+    cols = {r[1] for r in conn.execute("PRAGMA table_info(spectra)")}
+    if "source_library" not in cols:
+        conn.execute("ALTER TABLE spectra ADD COLUMN source_library TEXT")
+
+
 #: Migration steps: MIGRATIONS[n] turns a schema n-1 library into schema n.
-MIGRATIONS = {2: _migrate_1_to_2}
+MIGRATIONS = {2: _migrate_1_to_2, 3: _migrate_2_to_3}

@@ -118,7 +118,13 @@ def build_v1_library(path: Path) -> None:
 
 def dump(path: Path | str) -> dict[str, list[tuple]]:
     con = sqlite3.connect(path)
-    out = {t: sorted(con.execute(f"SELECT * FROM {t}").fetchall(), key=repr) for t in TABLES}
+    tables = {r[0] for r in con.execute("SELECT name FROM sqlite_master WHERE type='table'")}
+    out = {
+        t: sorted(con.execute(f"SELECT * FROM {t}").fetchall(), key=repr)
+        for t in TABLES
+        if t in tables
+    }
+    out["history"] = con.execute("SELECT * FROM history").fetchall() if "history" in tables else []
     con.close()
     return out
 
@@ -134,13 +140,17 @@ def test_v1_library_migrates_keeping_every_row(v1):
     before = dump(v1)
     assert len(before["peaks"]) == 18 and len(before["spectra"]) == 4
     s = Store.open(v1)
-    assert s.schema_version == SCHEMA_VERSION == 2
+    assert s.schema_version == SCHEMA_VERSION == 3
     assert re.fullmatch(r"[0-9a-f]{32}", s.get_meta("library_id"))
     assert s.get_meta("reflib_version")
     s.close()
     after = dump(v1)
-    for table in ("compounds", "spectra", "peaks", "vectors"):
+    for table in ("compounds", "peaks", "vectors"):
         assert after[table] == before[table], table
+    # schema 3 adds spectra.source_library (NULL for every spectrum added before) at the end
+    assert [r[:-1] for r in after["spectra"]] == before["spectra"]
+    assert all(r[-1] is None for r in after["spectra"])
+    assert after["history"] == []  # schema 3: the history starts empty, nothing is invented
     new_meta = {k for k, _ in after["meta"]} - {k for k, _ in before["meta"]}
     assert new_meta == {"library_id", "reflib_version"}
     assert dict(after["meta"])["revision"] == "8"  # one write: the migration
