@@ -165,4 +165,3 @@ def run(cfg: ServerConfig) -> None:
     app = create_app(check_config(cfg))
     print(f"reflib: serving {cfg.library} on http://{cfg.host}:{cfg.port}/ (Ctrl-C stops)")
     uvicorn.run(app, host=cfg.host, port=cfg.port, log_level="warning")
-
