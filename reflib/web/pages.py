@@ -33,7 +33,7 @@ nav a { color: #f6f4ee; text-decoration: none; margin-right: 1.2rem; padding-bot
   border-bottom: 2px solid transparent; }
 nav a:hover, nav a.here { border-bottom-color: #8fd0cc; }
 header .who { margin-left: auto; color: #c9c4b5; font-size: 0.9rem; }
-main { max-width: 1100px; margin: 0 auto; padding: 1.2rem 1.5rem 3rem; }
+main { max-width: 1180px; margin: 0 auto; padding: 1.2rem 1.5rem 3rem; }
 h1 { font-size: 1.45rem; margin: 0.6rem 0 1rem; }
 h2 { font-size: 1.15rem; margin: 1.6rem 0 0.6rem; border-bottom: 1px solid var(--rule);
   padding-bottom: 0.2rem; }
@@ -76,9 +76,12 @@ td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: now
   border-radius: 0 6px 6px 0; }
 .ok { border-left: 5px solid var(--good); background: var(--good-soft); padding: 0.6rem 1rem;
   border-radius: 0 6px 6px 0; }
-footer { max-width: 1100px; margin: 0 auto; padding: 0 1.5rem 2rem; color: var(--mute);
+footer { max-width: 1180px; margin: 0 auto; padding: 0 1.5rem 2rem; color: var(--mute);
   font-size: 0.85rem; }
 a { color: var(--accent); }
+details.bands { margin: 0.6rem 0; }
+details.bands summary { cursor: pointer; color: var(--accent); font-weight: 600; }
+td span[title] { border-bottom: 1px dotted var(--mute); }
 code { background: #efece3; padding: 0 0.25rem; border-radius: 3px; }
 """
 
@@ -186,26 +189,34 @@ def search_result(d: Mapping[str, Any], plot: str | None) -> str:
     q = d["query"]
     lo, hi = q["range_cm1"]
     verdict = d["verdict"]
-    rows = []
+    rows, notes = [], []
     for h in d["hits"]:
-        new = []
-        for pos in h["new"]:
-            label = h.get("annotations", {}).get(f"{pos:.1f}")
-            new.append(f"{pos:.0f}" + (f" ({label})" if label else ""))
+        labels = h.get("annotations", {})
+        new_bands = ", ".join(
+            f'<span title="{e(labels.get(f"{p:.1f}", ""))}">{p:.0f}</span>' for p in h["new"]
+        )
         rows.append(
             f'<tr><td class="num">{h["rank"]}</td><td class="num">{h["score"]:.3f}</td>'
             f'<td><a href="/compound/{int(h["compound_id"])}">{e(h["name"])}</a></td>'
             f"<td>{e(h['role'])}</td><td>{e(', '.join(h['prep']) or '-')}</td>"
-            f"<td>{e(_bands(m[0] for m in h['matched']))}</td>"
-            f"<td>{e(_bands(h['missing']))}</td><td>{e(', '.join(new) or 'none')}</td></tr>"
+            f'<td class="num">{len(h["matched"])}</td>'
+            f"<td>{e(_bands(h['missing']))}</td><td>{new_bands or 'none'}</td></tr>"
         )
+        for p in h["new"]:
+            if labels.get(f"{p:.1f}") and h["rank"] == 1:
+                notes.append(f"<li>{p:.0f} cm⁻¹: {e(labels[f'{p:.1f}'])}</li>")
     table = (
         '<table id="hits"><thead><tr><th>#</th><th>score</th><th>compound</th><th>role</th>'
-        "<th>reference prep.</th><th>matched bands</th><th>missing in the unknown</th>"
-        f"<th>new in the unknown</th></tr></thead><tbody>{''.join(rows)}</tbody></table>"
+        "<th>reference prep.</th><th>bands matched</th><th>missing in the unknown (cm⁻¹)</th>"
+        f"<th>new in the unknown (cm⁻¹)</th></tr></thead><tbody>{''.join(rows)}</tbody></table>"
         if rows
         else "<p>No reference to list.</p>"
     )
+    if notes:
+        table += (
+            '<details class="bands"><summary>What the new bands of the unknown could be '
+            f"(candidate groups, against hit #1)</summary><ul>{''.join(notes)}</ul></details>"
+        )
     masked = "".join(
         f"<li>{lo_:.0f}–{hi_:.0f} cm⁻¹: {e(why)}</li>" for lo_, hi_, why in d["masked"]
     )
@@ -220,9 +231,9 @@ def search_result(d: Mapping[str, Any], plot: str | None) -> str:
         f"<span>{e(d['verdict_reason'])}</span></div>"
         f'<p class="hint">Preparation: {e(", ".join(q["prep"]) or "none given")}; compared '
         f"{lo:.0f}–{hi:.0f} cm⁻¹.</p>"
-        f"<h2>Hits</h2>{table}"
-        + (f"<h2>Bands that would tell the top two apart</h2><ul>{dist}</ul>" if dist else "")
         + (f'<h2>Overlay</h2><div id="plot">{plot}</div>' if plot else "")
+        + f"<h2>Hits</h2>{table}"
+        + (f"<h2>Bands that would tell the top two apart</h2><ul>{dist}</ul>" if dist else "")
         + (f"<h2>Masked or down-weighted regions</h2><ul>{masked}</ul>" if masked else "")
     )
 
