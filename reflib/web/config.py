@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import ipaddress
-import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -92,7 +91,3 @@ def check_config(cfg: ServerConfig) -> ServerConfig:
             f"no library at {cfg.library}; create one with 'reflib init' or give --library"
         )
     return cfg
-
-
-def env_token() -> str | None:
-    return os.environ.get("REFLIB_TOKEN") or None
