@@ -208,6 +208,7 @@ def _add_chunk(
         next_sid = int(conn.execute("SELECT COALESCE(MAX(id), 0) FROM spectra").fetchone()[0])
         compound_rows: list[dict[str, Any]] = []
         role_updates: list[tuple[str, int]] = []
+        history_rows: list[tuple] = []
         spectrum_rows: list[dict[str, Any]] = []
         all_peaks: list[tuple] = []
         vector_rows: list[tuple] = []
@@ -230,6 +231,11 @@ def _add_chunk(
                         )
                 if p.role and p.role != existing["role"]:
                     role_updates.append((p.role, cid))
+                    op = p.item.get("operator")
+                    history_rows.append(
+                        ("edit", cid, existing["name"], op, "role", existing["role"], p.role,
+                         "changed by an add")
+                    )  # fmt: skip
                     existing["role"] = p.role
             else:
                 next_cid += 1
@@ -251,7 +257,7 @@ def _add_chunk(
         _insert_rows(conn, "spectra", spectrum_rows)
         conn.executemany(PEAKS_INSERT, all_peaks)
         conn.executemany(VECTORS_INSERT, vector_rows)
-        record_many(store, [_history_row(p, r) for p, r in zip(prepared, results)])
+        record_many(store, history_rows + [_history_row(p, r) for p, r in zip(prepared, results)])
     return results
 
 

@@ -164,6 +164,9 @@ class Library:
                     self.store.conn.execute(
                         "UPDATE compounds SET role = ? WHERE id = ?", (role_word, cid)
                     )
+                    record(self.store, "edit", compound_id=cid, compound_name=existing["name"],
+                           operator=operator, field="role", old=existing["role"],
+                           new=role_word, detail="changed by an add")  # fmt: skip
             else:
                 rec: dict[str, Any] = {
                     "name": name,

@@ -108,3 +108,12 @@ def test_cli_edit_and_history(tmp_path, lib):
     r = run(app, ["history", "ethanol", "--json", "-L", path])
     assert r.exit_code == 0, r.output
     assert [h["action"] for h in json.loads(r.output)] == ["add", "edit"]
+
+
+def test_role_changed_by_an_add_is_recorded(lib):
+    lib.add(_pl(ACETONE, "a2"), name="acetone", role="solvent", operator="ML", check_similar=False)
+    rec = lib.history("acetone")[-2]
+    assert (rec["action"], rec["field"], rec["old"], rec["new"]) == ("edit", "role", "other",
+                                                                    "solvent")  # fmt: skip
+    lib.add_many([{"data": _pl(ACETONE, "a3"), "name": "acetone", "role": "reagent"}])
+    assert any(h["field"] == "role" and h["new"] == "reagent" for h in lib.history("acetone"))
