@@ -427,3 +427,56 @@ def check_consistency(
             + (f" (could be: {hint})" if hint else "")
         )
     return report
+
+
+# --- structure filters (search and list restricted by group or substructure) ------------------
+
+
+def group_ids() -> tuple[str, ...]:
+    """Every functional-group id of the SMARTS table, table order."""
+    return tuple(dict.fromkeys(p.group for p in group_patterns()))
+
+
+def check_group(group: str) -> str:
+    """``group`` if it is a functional-group id of the table, else a ValidationError naming
+    them."""
+    g = str(group or "").strip().lower()
+    if g not in group_ids():
+        raise ValidationError(f"unknown group {group!r}; use one of: {', '.join(group_ids())}")
+    return g
+
+
+@lru_cache(maxsize=256)
+def compile_smarts(pattern: str) -> Any:
+    """A SMARTS query, or a ValidationError for a pattern RDKit cannot read."""
+    from rdkit import Chem
+
+    text = str(pattern or "").strip()
+    if not text:
+        raise ValidationError("expected a SMARTS pattern, got nothing")
+    with _quiet_rdkit():
+        q = Chem.MolFromSmarts(text)
+    if q is None:
+        raise ValidationError(f"invalid SMARTS {text!r}: RDKit cannot parse it")
+    return q
+
+
+@lru_cache(maxsize=65536)
+def _groups_of(smiles: str) -> frozenset[str]:
+    return frozenset(functional_groups(smiles))
+
+
+def has_group(smiles: str, group: str) -> bool:
+    """True when the structure holds the functional group (table id), as
+    :func:`functional_groups` finds it. Results are cached per SMILES."""
+    return group in _groups_of(smiles)
+
+
+@lru_cache(maxsize=65536)
+def _matches(smiles: str, pattern: str) -> bool:
+    return bool(_mol_from_smiles(smiles).HasSubstructMatch(compile_smarts(pattern)))
+
+
+def matches_smarts(smiles: str, pattern: str) -> bool:
+    """True when the structure holds the SMARTS substructure (cached per SMILES and pattern)."""
+    return _matches(smiles, pattern)

@@ -79,3 +79,21 @@ def _expand(paths: list[Path]) -> list[Path]:
         else:
             out.append(p)
     return out
+
+
+# --- reference filters shared by search and list (reflib.library.filters) ---------------------
+
+TagOpt = typer.Option(None, "--tag", help="Only references of compounds with this tag.")
+HasGroupOpt = typer.Option(
+    None, "--has-group", help="Only structures with this functional group, e.g. ketone."
+)
+SmartsOpt = typer.Option(None, "--smarts", help="Only structures matching this SMARTS.")
+AddedByOpt = typer.Option(None, "--added-by", help="Only spectra added by this operator.")
+SinceOpt = typer.Option(None, "--since", help="Only spectra added on or after this date.")
+
+
+def _where(**conditions: Any):
+    """The :class:`reflib.library.filters.Where` of the filter options (None when none given)."""
+    from reflib.library.filters import Where
+
+    return Where.of(conditions)

@@ -8,7 +8,20 @@ from pathlib import Path
 
 import typer
 
-from reflib.cli.common import LibraryOpt, _echo_json, _library_path, _open, _usage, app
+from reflib.cli.common import (
+    AddedByOpt,
+    HasGroupOpt,
+    LibraryOpt,
+    SinceOpt,
+    SmartsOpt,
+    TagOpt,
+    _echo_json,
+    _library_path,
+    _open,
+    _usage,
+    _where,
+    app,
+)
 
 PANEL = "Build and browse the library"
 
@@ -115,14 +128,20 @@ def import_(
 def list_(
     role: str = typer.Option(None, "--role", help="Only this role."),
     match: str = typer.Option(None, "--match", help="Only names containing this text."),
+    tag: str = TagOpt,
+    has_group: str = HasGroupOpt,
+    smarts: str = SmartsOpt,
+    added_by: str = AddedByOpt,
+    since: str = SinceOpt,
     json_out: bool = typer.Option(False, "--json", help="Print JSON."),
     library: Path = LibraryOpt,
 ) -> None:
-    """List the compounds in the library."""
+    """List the compounds in the library (filters: those with a matching spectrum)."""
+    where = _where(tag=tag, has_group=has_group, smarts=smarts, added_by=added_by, since=since)
     with _open(library) as lib:
-        rows = lib.compounds(role=role, match=match)
+        rows = lib.compounds(role=role, match=match, where=where)
     if json_out:
-        keep = ("id", "name", "role", "smiles", "formula", "notebook", "n_spectra", "preps")
+        keep = ("id", "name", "role", "smiles", "formula", "notebook", "n_spectra", "preps", "tags")
         _echo_json([{k: r.get(k) for k in keep} for r in rows])
         return
     if not rows:
@@ -186,16 +205,17 @@ def show(
 def remove(
     ref: str = typer.Argument(..., help="Compound id or name."),
     yes: bool = typer.Option(False, "--yes", help="Do not ask for confirmation."),
+    operator: str = typer.Option(None, "--operator", help="Who removes it (default: login)."),
     library: Path = LibraryOpt,
 ) -> None:
-    """Remove a compound and all its spectra."""
+    """Remove a compound and all its spectra (its history stays: 'reflib history')."""
     with _open(library) as lib:
         c = lib.store.find_compound(ref)
         if not yes:
             if not sys.stdin.isatty():
                 raise _usage(f"removing {c['name']!r} needs --yes when not run interactively")
             typer.confirm(f"remove {c['name']!r} and all its spectra?", abort=True)
-        out = lib.remove(int(c["id"]))
+        out = lib.remove(int(c["id"]), operator=operator)
     typer.echo(f"removed {out['name']!r} ({out['spectra']} spectra)")
 
 

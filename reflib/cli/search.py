@@ -10,12 +10,18 @@ from typing import Any
 import typer
 
 from reflib.cli.common import (
+    AddedByOpt,
+    HasGroupOpt,
     LibraryOpt,
     PlotYOpt,
+    SinceOpt,
+    SmartsOpt,
+    TagOpt,
     _check_pictures,
     _echo_json,
     _expand,
     _open,
+    _where,
     app,
 )
 from reflib.errors import ReflibError
@@ -150,6 +156,12 @@ def search(
     ),
     report: Path = typer.Option(None, "--report", help="Write a self-contained HTML report."),
     plot_y: str = PlotYOpt,
+    role: str = typer.Option(None, "--role", help="Only references of this role."),
+    tag: str = TagOpt,
+    has_group: str = HasGroupOpt,
+    smarts: str = SmartsOpt,
+    added_by: str = AddedByOpt,
+    since: str = SinceOpt,
     library: Path = LibraryOpt,
 ) -> None:
     """Find which library compounds an unknown spectrum resembles, band by band.
@@ -161,6 +173,8 @@ def search(
     from reflib.io import read_spectrum
 
     _check_pictures(plot, report, plot_y)
+    where = _where(role=role, tag=tag, has_group=has_group, smarts=smarts, added_by=added_by,
+                   since=since)  # fmt: skip
     paths = _expand(files)
     with _open(library) as lib:
         queries, failed = [], []
@@ -176,10 +190,12 @@ def search(
             with typer.progressbar(length=len(queries), label="searching", file=sys.stderr) as bar:
                 for start in range(0, len(queries), 256):
                     chunk = queries[start : start + 256]
-                    results += lib.search_many(chunk, prep=prep, top=top, weights=weights)
+                    results += lib.search_many(
+                        chunk, prep=prep, top=top, weights=weights, where=where
+                    )
                     bar.update(len(chunk))
         else:
-            results = lib.search_many(queries, prep=prep, top=top, weights=weights)
+            results = lib.search_many(queries, prep=prep, top=top, weights=weights, where=where)
         if plot or report:
             from reflib.report import numbered, search_outputs
 

@@ -37,6 +37,7 @@ from reflib.library.entries import (
     structure_ids,
     to_peaks,
 )
+from reflib.library.history import record_many
 from reflib.library.store import (
     PEAKS_INSERT,
     VECTORS_INSERT,
@@ -207,6 +208,7 @@ def _add_chunk(
         next_sid = int(conn.execute("SELECT COALESCE(MAX(id), 0) FROM spectra").fetchone()[0])
         compound_rows: list[dict[str, Any]] = []
         role_updates: list[tuple[str, int]] = []
+        history_rows: list[tuple] = []
         spectrum_rows: list[dict[str, Any]] = []
         all_peaks: list[tuple] = []
         vector_rows: list[tuple] = []
@@ -229,6 +231,11 @@ def _add_chunk(
                         )
                 if p.role and p.role != existing["role"]:
                     role_updates.append((p.role, cid))
+                    op = p.item.get("operator")
+                    history_rows.append(
+                        ("edit", cid, existing["name"], op, "role", existing["role"], p.role,
+                         "changed by an add")
+                    )  # fmt: skip
                     existing["role"] = p.role
             else:
                 next_cid += 1
@@ -250,7 +257,16 @@ def _add_chunk(
         _insert_rows(conn, "spectra", spectrum_rows)
         conn.executemany(PEAKS_INSERT, all_peaks)
         conn.executemany(VECTORS_INSERT, vector_rows)
+        record_many(store, history_rows + [_history_row(p, r) for p, r in zip(prepared, results)])
     return results
+
+
+def _history_row(p: _Prepared, r: AddResult) -> tuple:
+    """The history record of one bulk-added spectrum (as :func:`history.record_add` writes)."""
+    source = getattr(p.data.meta, "source_file", None) or "no file name"
+    what = ("new compound; " if r.new_compound else "") + f"spectrum from {source}"
+    return ("add", r.compound_id, r.name, p.item.get("operator"), "spectrum", None,
+            r.spectrum_id, what)  # fmt: skip
 
 
 def _refuse_duplicates(lib: Any, prepared: list[_Prepared]) -> None:

@@ -41,6 +41,8 @@ from reflib.library.entries import (
     structure_ids,
     to_peaks,
 )
+from reflib.library.filters import Where, matching_compounds, restricted_search, tags_of
+from reflib.library.history import history_of, record, record_add
 from reflib.library.index import range_key
 from reflib.library.store import Store, normalise_role
 from reflib.spectrum import PeakList, Spectrum
@@ -162,6 +164,9 @@ class Library:
                     self.store.conn.execute(
                         "UPDATE compounds SET role = ? WHERE id = ?", (role_word, cid)
                     )
+                    record(self.store, "edit", compound_id=cid, compound_name=existing["name"],
+                           operator=operator, field="role", old=existing["role"],
+                           new=role_word, detail="changed by an add")  # fmt: skip
             else:
                 rec: dict[str, Any] = {
                     "name": name,
@@ -186,6 +191,7 @@ class Library:
                 operator=operator,
                 notes=note if not new_compound else None,
             )
+            record_add(self.store, cid, name, sid, data, new_compound, operator)
         self._index = None
         return AddResult(cid, sid, name, new_compound, warnings)
 
@@ -265,13 +271,16 @@ class Library:
         prep: str | Iterable[str] | None = None,
         top: int = 5,
         weights: str | None = None,
+        where: Where | dict[str, Any] | None = None,
     ) -> SearchResult:
         """Rank the library against ``query`` and explain the top hits band by band.
 
         ``prep`` lists the query's preparation tokens (added to any the file names); ``weights``
-        is a region profile (``functional``, ``fingerprint`` or ranges like ``1800-1650:3``).
+        is a region profile (``functional``, ``fingerprint`` or ranges like ``1800-1650:3``);
+        ``where`` restricts the references (:class:`reflib.library.filters.Where` or a dict of
+        its fields, e.g. ``{"role": "product", "has_group": "ketone"}``).
         """
-        return self.search_many([query], prep=prep, top=top, weights=weights)[0]
+        return self.search_many([query], prep=prep, top=top, weights=weights, where=where)[0]
 
     def search_many(
         self,
@@ -280,11 +289,15 @@ class Library:
         prep: str | Iterable[str] | None = None,
         top: int = 5,
         weights: str | None = None,
+        where: Where | dict[str, Any] | None = None,
     ) -> list[SearchResult]:
         """Search many unknowns at once: one blocked matrix-matrix product per group.
 
-        Queries that share preparation and covered range are scored together.
+        Queries that share preparation and covered range are scored together. With ``where``
+        only the matching references are ranked (exact scores; the others are masked out) and
+        each verdict's reason says the search was restricted.
         """
+        where = Where.of(where)
         if top < 1:
             raise ValidationError(f"--top must be at least 1, got {top}")
         from reflib.analysis.encode import parse_profile
@@ -297,9 +310,13 @@ class Library:
             peaks = comparable_peaks(to_peaks(qry), tokens, self.encoding)
             prepared.append((qry.meta.source_file, peaks, data_range(qry), tokens))
         with self.store.read():  # index and the hits' bands from one snapshot of the file
+            if where is not None:
+                return restricted_search(self, prepared, where, top=top, profile=weights)
             return self._search_prepared(prepared, top=top, profile=weights)
 
-    def _search_prepared(self, prepared: list, *, top: int, profile: str | None) -> list:
+    def _search_prepared(
+        self, prepared: list, *, top: int, profile: str | None, rows: np.ndarray | None = None
+    ) -> list:
         """Score and explain ``prepared`` queries: (source file, comparable peaks, covered
         range, preparation tokens) each."""
         from reflib.analysis.search import score_index
@@ -324,6 +341,8 @@ class Library:
                     if idx.size
                     else np.zeros((0, len(members)))
                 )
+                if rows is not None:  # a filtered search: other references never rank
+                    scores[~rows] = -np.inf
                 self._explain_batch(prepared, members, vectors, scores, idx, top, profile, results)
         return results  # type: ignore[return-value]
 
@@ -375,13 +394,15 @@ class Library:
             picks: list[int] = []
             seen: set[int] = set()
             for i in cand:
+                if not np.isfinite(scores[i]):
+                    break  # filtered out (see _search_prepared)
                 cid = int(idx.compound_ids[i])
                 if cid not in seen:
                     seen.add(cid)
                     picks.append(int(i))
                     if len(picks) >= want:
                         break
-            if len(picks) >= want or k >= idx.size:
+            if len(picks) >= want or k >= idx.size or not np.isfinite(scores[cand[-1]]):
                 break
             k = min(idx.size, 4 * k)
         group_of = _group_lookup(idx)
@@ -453,11 +474,23 @@ class Library:
 
     # --- browsing -----------------------------------------------------------------------------
 
-    def compounds(self, *, role: str | None = None, match: str | None = None) -> list[dict]:
-        """Compounds with their spectrum count, optionally by role or a name fragment."""
+    def compounds(
+        self,
+        *,
+        role: str | None = None,
+        match: str | None = None,
+        where: Where | dict[str, Any] | None = None,
+    ) -> list[dict]:
+        """Compounds with their spectrum count, optionally by role, a name fragment or ``where``
+        (see :meth:`search`): those with at least one matching spectrum."""
         rows = self.store.list_compounds(role=role, match=match)
+        where = Where.of(where)
+        if where is not None:
+            keep = matching_compounds(self.store, where)
+            rows = [r for r in rows if int(r["id"]) in keep]
         for r in rows:
             r["preps"] = sorted({t for p in (r.get("preps") or "").split(",") for t in [p] if t})
+            r["tags"] = tags_of(r)
         return rows
 
     def show(self, ref: str | int) -> dict[str, Any]:
@@ -474,13 +507,35 @@ class Library:
         c["spectra"] = spectra
         return c
 
-    def remove(self, ref: str | int) -> dict[str, Any]:
-        """Remove a compound and all its spectra; returns what was removed."""
-        c = self.store.find_compound(ref)
-        n = len(self.store.spectra_of(int(c["id"])))
-        self.store.remove_compound(int(c["id"]))
+    def remove(self, ref: str | int, *, operator: str | None = None) -> dict[str, Any]:
+        """Remove a compound and all its spectra; returns what was removed. The history keeps
+        its record (:meth:`history`)."""
+        with self.store.write():
+            c = self.store.find_compound(ref)
+            n = len(self.store.spectra_of(int(c["id"])))
+            record(self.store, "remove", compound_id=int(c["id"]),
+                           compound_name=c["name"], operator=operator,
+                           detail=f"{n} spectra removed")  # fmt: skip
+            self.store.remove_compound(int(c["id"]))
         self._index = None
         return {"compound_id": int(c["id"]), "name": c["name"], "spectra": n}
+
+    def edit(self, ref: str | int, **changes: Any) -> dict[str, Any]:
+        """Correct a compound (name, smiles, role, note, tag, untag, operator keywords of
+        :func:`reflib.library.edits.edit_compound`), each change recorded in the history."""
+        from reflib.library.edits import edit_compound
+
+        return edit_compound(self, ref, **changes)
+
+    def history(self, ref: str | int) -> list[dict[str, Any]]:
+        """Every recorded change of one compound, oldest first (also of a removed one)."""
+        return history_of(self.store, ref)
+
+    def merge(self, other: str | Path, *, operator: str | None = None):
+        """Bring another library's compounds and spectra in (:mod:`reflib.library.merge`)."""
+        from reflib.library.merge import merge_library
+
+        return merge_library(self, other, operator=operator)
 
     def peaks(self, spectrum_id: int) -> PeakList:
         """The stored peak list of one spectrum."""

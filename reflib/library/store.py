@@ -52,7 +52,10 @@ if TYPE_CHECKING:
 #: peaks indexed by (spectrum_id, position), which serves both the lookup and the ordering of
 #: :meth:`Store.peaks_of` without a sort. 3: peaks.label, the author's assignment of a typed
 #: band ("C=O"), NULL where none was given.
-SCHEMA_VERSION = 3
+#: 4: a ``history`` table (every add, remove, merge and
+#: edit with time, operator, old and new value) and ``spectra.source_library`` (where a merged
+#: spectrum came from).
+SCHEMA_VERSION = 4
 ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
 ROLE_ALIASES = {
     "sm": "starting material",
@@ -802,5 +805,25 @@ def _migrate_2_to_3(conn: sqlite3.Connection) -> None:
         conn.execute("ALTER TABLE peaks ADD COLUMN label TEXT")
 
 
+def _migrate_3_to_4(conn: sqlite3.Connection) -> None:
+    """Schema 4: the change history and the source library of merged spectra.
+
+    ``history`` has no foreign key to ``compounds``: a removed compound's record stays. Every
+    existing row is kept; old spectra get ``source_library`` NULL (added here, not merged).
+    """
+    conn.execute(
+        "CREATE TABLE IF NOT EXISTS history (id INTEGER PRIMARY KEY, at TEXT NOT NULL, "
+        "operator TEXT, action TEXT NOT NULL, compound_id INTEGER, compound_name TEXT, "
+        "field TEXT, old TEXT, new TEXT, detail TEXT)"
+    )
+    conn.execute("CREATE INDEX IF NOT EXISTS idx_history_compound ON history(compound_id)")
+    conn.execute(
+        "CREATE INDEX IF NOT EXISTS idx_history_name ON history(compound_name COLLATE NOCASE)"
+    )
+    cols = {r[1] for r in conn.execute("PRAGMA table_info(spectra)")}
+    if "source_library" not in cols:
+        conn.execute("ALTER TABLE spectra ADD COLUMN source_library TEXT")
+
+
 #: Migration steps: MIGRATIONS[n] turns a schema n-1 library into schema n.
-MIGRATIONS = {2: _migrate_1_to_2, 3: _migrate_2_to_3}
+MIGRATIONS = {2: _migrate_1_to_2, 3: _migrate_2_to_3, 4: _migrate_3_to_4}

@@ -118,7 +118,13 @@ def build_v1_library(path: Path) -> None:
 
 def dump(path: Path | str) -> dict[str, list[tuple]]:
     con = sqlite3.connect(path)
-    out = {t: sorted(con.execute(f"SELECT * FROM {t}").fetchall(), key=repr) for t in TABLES}
+    tables = {r[0] for r in con.execute("SELECT name FROM sqlite_master WHERE type='table'")}
+    out = {
+        t: sorted(con.execute(f"SELECT * FROM {t}").fetchall(), key=repr)
+        for t in TABLES
+        if t in tables
+    }
+    out["history"] = con.execute("SELECT * FROM history").fetchall() if "history" in tables else []
     con.close()
     return out
 
@@ -134,15 +140,19 @@ def test_v1_library_migrates_keeping_every_row(v1):
     before = dump(v1)
     assert len(before["peaks"]) == 18 and len(before["spectra"]) == 4
     s = Store.open(v1)
-    assert s.schema_version == SCHEMA_VERSION == 3
+    assert s.schema_version == SCHEMA_VERSION == 4
     assert re.fullmatch(r"[0-9a-f]{32}", s.get_meta("library_id"))
     assert s.get_meta("reflib_version")
     s.close()
     after = dump(v1)
-    for table in ("compounds", "spectra", "vectors"):
+    for table in ("compounds", "vectors"):
         assert after[table] == before[table], table
     # schema 3 adds peaks.label: every band is kept as it was, with no label
     assert after["peaks"] == [(*row, None) for row in before["peaks"]]
+    # schema 4 adds spectra.source_library (NULL for every spectrum added before) at the end
+    assert [r[:-1] for r in after["spectra"]] == before["spectra"]
+    assert all(r[-1] is None for r in after["spectra"])
+    assert after["history"] == []  # schema 4: the history starts empty, nothing is invented
     new_meta = {k for k, _ in after["meta"]} - {k for k, _ in before["meta"]}
     assert new_meta == {"library_id", "reflib_version"}
     assert dict(after["meta"])["revision"] == "8"  # one write: the migration
@@ -239,18 +249,20 @@ def test_new_library_equals_a_migrated_one(tmp_path, v1):
 
 
 def test_schema_2_library_gains_the_label_column_keeping_every_row(v1, monkeypatch):
-    """A file left at schema 2 (as reflib wrote it before band labels) migrates to 3."""
+    """A file left at schema 2 (as reflib wrote it before band labels) migrates to 3 and on to
+    the current schema."""
     monkeypatch.setattr(store_mod, "SCHEMA_VERSION", 2)
     Store.open(v1).close()
     assert Store.open(v1, migrate=False).schema_version == 2
     before = dump(v1)
     monkeypatch.undo()
     s = Store.open(v1)
-    assert s.schema_version == 3
+    assert s.schema_version == SCHEMA_VERSION
     s.close()
     after = dump(v1)
-    for table in ("compounds", "spectra", "vectors"):
+    for table in ("compounds", "vectors"):
         assert after[table] == before[table], table
+    assert [r[:-1] for r in after["spectra"]] == before["spectra"]  # + source_library (4)
     assert after["peaks"] == [(*row, None) for row in before["peaks"]]
     assert len(list(v1.parent.glob("group.sqlite.v2-backup-*"))) == 1
     with Library.open(v1) as lib:
