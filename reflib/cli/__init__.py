@@ -11,7 +11,7 @@ import sys
 
 import typer
 
-from reflib.cli import analysis, demo, health, library, search  # noqa: F401  (each registers its commands)
+from reflib.cli import analysis, calibrate, demo, health, library, search  # noqa: F401  (each registers its commands)
 from reflib.cli.common import app
 from reflib.errors import ReflibError
 

@@ -8,6 +8,7 @@ from pathlib import Path
 
 import typer
 
+from reflib.cli.calibrate import auto_calibrate
 from reflib.cli.common import LibraryOpt, _echo_json, _library_path, _open, _usage, app
 
 
@@ -67,6 +68,7 @@ def add(
                 strict=strict,
             )
             results.append(res)
+        auto_calibrate(lib)
     if json_out:
         _echo_json([r.to_dict() for r in results])
         return
@@ -92,6 +94,7 @@ def import_(
     with _open(library) as lib:
         with typer.progressbar(length=len(entries), label="importing", file=sys.stderr) as bar:
             report = run_import(lib, entries, force=force, progress=bar.update)
+        auto_calibrate(lib)
     typer.echo(
         f"added {report.added}, skipped {report.skipped} already in the library, "
         f"failed {len(report.failures)}"

@@ -21,6 +21,7 @@ from typing import Any
 
 import numpy as np
 
+from reflib.analysis.calibration import MIN_COMPOUNDS, mask_share
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.search import (
     DEFAULT_RULE,
@@ -33,6 +34,7 @@ from reflib.analysis.search import (
 )
 from reflib.chem import prep as prep_mod
 from reflib.errors import ValidationError
+from reflib.library.calibrate import compound_count, load_model, stale
 from reflib.library.entries import (
     AddResult,
     clean_name,
@@ -422,9 +424,12 @@ class Library:
             "matched_strength": ex1.matched_strength,
             "n_query_bands": float(len(peaks)),
         }
-        verdict, reason = self.rule.decide(features)
+        features["mask_share"] = mask_share(explanations[0][2])
+        features["crowding"] = self._crowding(hits[0].spectrum_id)
+        verdict, reason, confidence = self._verdict(features, idx.size)
         distinguishing: dict[str, list[float]] = {}
-        if verdict == "ambiguous" and len(hits) > 1 and features["margin"] < self.rule.min_margin:
+        near = confidence is not None or features["margin"] < self.rule.min_margin
+        if verdict == "ambiguous" and len(hits) > 1 and near:
             _, p1, w1 = explanations[0]
             _, p2, _ = explanations[1]
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
@@ -440,7 +445,47 @@ class Library:
             masked=masked,
             features=features,
             distinguishing=distinguishing,
+            confidence=confidence,
         )
+
+    # --- the calibrated verdict (reflib.library.calibrate) --------------------------------------
+
+    def _model(self):
+        """The stored calibration model (parsed once per stored text), or None."""
+        text = self.store.get_meta("calibration")
+        if text != getattr(self, "_cal_text", 0):  # 0: nothing read yet
+            self._cal_text = text
+            self._cal_model = load_model(self.store)
+        return self._cal_model
+
+    def forget_calibration(self) -> None:
+        self._cal_text = 0
+
+    def _crowding(self, spectrum_id: int) -> float:
+        row = self.store.conn.execute(
+            "SELECT score FROM neighbours WHERE spectrum_id = ?", (spectrum_id,)
+        ).fetchone()
+        return float(row[0]) if row else float("nan")
+
+    def _verdict(self, features: dict[str, float], n_spectra: int):
+        """Verdict, reason and confidence: the calibrated model when this library has one for
+        its encoding, else the fixed rule (confidence None) and why."""
+        model = self._model()
+        if model is not None and model.encoding_key == self.encoding.key():
+            verdict, reason, conf = model.decide(features)
+            if stale(model, n_spectra, model.encoding_key):
+                reason += (
+                    f"; calibrated when the library had {model.n_spectra} spectra, now "
+                    f"{n_spectra}: run 'reflib calibrate'"
+                )
+            return verdict, reason, conf
+        verdict, reason = self.rule.decide(features)
+        n = compound_count(self.store)
+        if n < MIN_COMPOUNDS:
+            why = f"{n} compounds; a calibrated verdict needs {MIN_COMPOUNDS}"
+        else:
+            why = "not calibrated for this library yet: run 'reflib calibrate'"
+        return verdict, f"{reason} (fixed rule: {why})", None
 
     def _names(self, compound_ids: list[int]) -> dict[int, tuple[str, str]]:
         if not compound_ids:

@@ -51,7 +51,7 @@ if TYPE_CHECKING:
 #: Schema this reflib writes. 1: the first layout. 2: meta rows library_id and reflib_version;
 #: peaks indexed by (spectrum_id, position), which serves both the lookup and the ordering of
 #: :meth:`Store.peaks_of` without a sort.
-SCHEMA_VERSION = 2
+SCHEMA_VERSION = 3
 ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
 ROLE_ALIASES = {
     "sm": "starting material",
@@ -790,5 +790,19 @@ def _migrate_1_to_2(conn: sqlite3.Connection) -> None:
     )
 
 
+def _migrate_2_to_3(conn: sqlite3.Connection) -> None:
+    """Schema 3: each spectrum's nearest other compound's score, written by a calibration.
+
+    The calibrated verdict (:mod:`reflib.library.calibrate`) reads how crowded the top hit's
+    neighbourhood is from here; the model itself is JSON in ``meta`` (key ``calibration``).
+    Rows go with their spectrum.
+    """
+    conn.execute(
+        "CREATE TABLE IF NOT EXISTS neighbours ("
+        "spectrum_id INTEGER PRIMARY KEY REFERENCES spectra(id) ON DELETE CASCADE, "
+        "score REAL NOT NULL)"
+    )
+
+
 #: Migration steps: MIGRATIONS[n] turns a schema n-1 library into schema n.
-MIGRATIONS = {2: _migrate_1_to_2}
+MIGRATIONS = {2: _migrate_1_to_2, 3: _migrate_2_to_3}

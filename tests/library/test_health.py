@@ -21,6 +21,7 @@ import pytest
 from reflib.analysis.encode import Encoding, encode
 from reflib.library import Library
 from reflib.library.health import check_library
+from reflib.library.store import SCHEMA_VERSION
 from reflib.spectrum import PeakList
 
 BANDS = {
@@ -112,7 +113,7 @@ def test_fresh_library_is_healthy(libpath):
     r = reflib("check", "-L", libpath, "--json")
     assert r.returncode == 0, r.stderr
     d = json.loads(r.stdout)
-    assert d["healthy"] is True and d["schema_version"] == 2
+    assert d["healthy"] is True and d["schema_version"] == SCHEMA_VERSION
     assert all(f["severity"] == "notice" for f in d["findings"])
 
 
