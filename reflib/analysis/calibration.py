@@ -28,7 +28,16 @@ from reflib.spectrum import PeakList
 MODEL_VERSION = 1
 
 #: Search features the model reads (names as in :attr:`SearchResult.features`).
-FEATURES = ("score", "margin", "unmatched", "mask_share", "n_query_bands", "crowding")
+FEATURES = (
+    "score",
+    "margin",
+    "strong_new",
+    "strong_missing",
+    "matched_strength",
+    "mask_share",
+    "n_query_bands",
+    "crowding",
+)
 
 #: A library needs this many compounds before it can be calibrated: with fewer, a left-out
 #: compound has too few analogs to stand for a real unknown (a judgement, common practice of
@@ -63,14 +72,23 @@ QUERY_PREPS: tuple[tuple[str, ...], ...] = (
 
 #: Perturbation sizes (cm-1 and relative): a measurement on another day, instrument or
 #: preparation (common practice, no source).
-GLOBAL_SHIFT_SD = 2.0
-BAND_JITTER_SD = 1.5
+#: The reference itself is one measurement already, so these are larger than one day-to-day
+#: change: two measurements differ by about sqrt(2) times one.
+GLOBAL_SHIFT_SD = 3.0
+BAND_JITTER_SD = 2.0
 INTENSITY_LOG_SD = 0.25
 WIDTH_LOG_SD = 0.15
 DROP_WEAK_BELOW = 0.15
-DROP_WEAK_P = 0.3
+DROP_WEAK_P = 0.35
 DROP_ANY_P = 0.03
 SPURIOUS_MEAN = 1.5
+#: Dilute solution frees part of a hydrogen-bonded O-H: a sharp band near 3610-3630 cm-1
+#: appears and the broad 3200-3550 band weakens (common practice, no source).
+FREE_OH = (3610.0, 3630.0)
+#: The axis a perturbed query is drawn on and picked from (cm-1).
+AXIS_STEP = 2.0
+NOISE_SD = (0.001, 0.004)  # of an absorbance whose strongest band is about 0.8
+BASELINE_MAX = 0.03
 
 
 # --- perturbed queries ------------------------------------------------------------------------
@@ -114,6 +132,15 @@ def perturb(
         inten = np.concatenate([inten, e[:, 1]])
         widths = np.concatenate([widths, e[:, 2]])
         broad = np.concatenate([broad, np.array([x[3] for x in extra], dtype=bool)])
+    if any(prep_mod.PREPARATIONS[t].kind == "solution" for t in query_tokens):
+        oh = broad & (pos >= 3200.0) & (pos <= 3560.0)
+        for i in np.flatnonzero(oh):
+            kept = float(rng.uniform(0.3, 0.6))
+            pos = np.append(pos, rng.uniform(*FREE_OH))
+            inten = np.append(inten, inten[i] * (1.0 - kept) * 1.5)
+            widths = np.append(widths, rng.uniform(15.0, 25.0))
+            broad = np.append(broad, False)
+            inten[i] *= kept
     seen = prep_mod.weight_profile(pos, list(query_tokens), air=False) > 0
     seen &= (pos > 0) & (inten > 0)
     order = np.argsort(pos[seen])
@@ -124,6 +151,26 @@ def perturb(
         None,
         broad[seen][order],
     )
+
+
+def measure(peaks: PeakList, rng: np.random.Generator) -> PeakList:
+    """The bands a spectrometer and the peak picker would report for ``peaks``: drawn as
+    absorbance (half Lorentzian, half Gaussian bands) on a 400-4000 cm-1 axis with a sloping
+    baseline and noise, then picked by :func:`reflib.signal.peaks.pick_peaks` as any added
+    spectrum is (close bands merge, weak ones sink in the noise)."""
+    from reflib.signal.peaks import pick_peaks
+    from reflib.spectrum import Spectrum
+
+    x = np.arange(400.0, 4000.0 + AXIS_STEP / 2, AXIS_STEP)
+    y = np.zeros_like(x)
+    fw = np.where(np.isfinite(peaks.widths), peaks.widths, 12.0)
+    for p, a, f in zip(peaks.positions, peaks.intensities, fw):
+        d = (x - p) / (max(f, 2.0) / 2.0)
+        y += a * (0.5 / (1.0 + d * d) + 0.5 * np.exp(-np.log(2.0) * d * d))
+    y *= 0.8 / max(float(y.max()), 1e-9)
+    y += float(rng.uniform(0.0, BASELINE_MAX)) * (0.5 + 0.5 * (x - 400.0) / 3600.0)
+    y += rng.normal(0.0, float(rng.uniform(*NOISE_SD)), x.size)
+    return pick_peaks(Spectrum(x, y))
 
 
 def mask_share(w: np.ndarray) -> float:
@@ -148,16 +195,18 @@ def distinct_top2(scores: np.ndarray, compound_ids: np.ndarray) -> tuple[np.ndar
 def design(f: np.ndarray) -> np.ndarray:
     """Model inputs from raw features (columns in :data:`FEATURES` order).
 
-    The raw six, the log of the unmatched and band counts, and how far the top score stands
-    above the top hit's own nearest neighbour (a top hit in a crowded family needs more).
+    The raw features, the log of the band counts, and how far the top score stands above the
+    top hit's own nearest neighbour (a top hit in a crowded family needs more).
     """
     f = np.atleast_2d(np.asarray(f, dtype=float))
-    score, margin, unmatched, share, nbands, crowd = f.T
+    score, margin, new, missing, strength, share, nbands, crowd = f.T
     return np.column_stack(
         [
             score,
             margin,
-            np.log1p(np.maximum(unmatched, 0.0)),
+            np.log1p(np.maximum(new, 0.0)),
+            np.log1p(np.maximum(missing, 0.0)),
+            strength,
             share,
             np.log1p(np.maximum(nbands, 0.0)),
             crowd,
@@ -230,7 +279,6 @@ class CalibratedModel:
         f = dict(features)
         if not math.isfinite(float(f.get("crowding", float("nan")))):
             f["crowding"] = self.default_crowding
-        f.setdefault("unmatched", f.get("strong_new", 0.0) + f.get("strong_missing", 0.0))
         return np.array([[float(f[k]) for k in FEATURES]])
 
     def decide(self, features: dict[str, float]) -> tuple[str, str, float]:
@@ -423,10 +471,12 @@ def _compare(X, y, w, a, b, m_lr: Logistic) -> dict[str, float]:
     boosting fitted on the same rows."""
     from sklearn.ensemble import HistGradientBoostingClassifier
     from sklearn.isotonic import IsotonicRegression
+    from threadpoolctl import threadpool_limits
 
-    gb = HistGradientBoostingClassifier(max_iter=150, learning_rate=0.05, random_state=0)
-    gb.fit(design(X[a]), y[a], sample_weight=w[a])
-    p_gb = gb.predict_proba(design(X[b]))[:, 1]
+    gb = HistGradientBoostingClassifier(max_iter=100, learning_rate=0.1, random_state=0)
+    with threadpool_limits(1):  # its threads only thrash on a shared machine at this size
+        gb.fit(design(X[a]), y[a], sample_weight=w[a])
+        p_gb = gb.predict_proba(design(X[b]))[:, 1]
     raw_b = m_lr.raw(X[b])
     yb, wb = y[b], w[b]
     half = np.arange(raw_b.size) % 2 == 0

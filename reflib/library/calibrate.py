@@ -1,7 +1,8 @@
 """Self-calibration of the verdict on a library's own references.
 
 Each sampled reference is re-made as a query (:func:`reflib.analysis.calibration.perturb`: other
-preparation, shifts, intensity changes, weak bands lost, spurious bands) and searched twice
+preparation, shifts, intensity changes, weak bands lost, spurious bands; then drawn with baseline
+and noise and picked again, :func:`~reflib.analysis.calibration.measure`) and searched twice
 against the library: as it is (its compound is there) and with its compound left out, done by
 zeroing that compound's rows in the score vector (the same as a library without it, without
 rebuilding anything). The features of both searches train the model of
@@ -143,7 +144,7 @@ def collect(
         raw, _, g = ref_peaks(int(row))
         for _ in range(copies):
             tokens = cal.QUERY_PREPS[int(rng.integers(len(cal.QUERY_PREPS)))]
-            q = cal.perturb(raw, g.prep, tokens, rng)
+            q = cal.measure(cal.perturb(raw, g.prep, tokens, rng), rng)
             q = comparable_peaks(q, tokens, enc)
             if len(q):
                 by_prep.setdefault(tokens, []).append((int(row), q))
@@ -175,7 +176,9 @@ def collect(
                         [
                             s1[j],
                             s1[j] - s2[j],
-                            ex.strong_new + ex.strong_missing,
+                            ex.strong_new,
+                            ex.strong_missing,
+                            ex.matched_strength,
                             cal.mask_share(w),
                             len(q),
                             crowd,
@@ -195,7 +198,7 @@ def collect(
 
 
 def calibrate(
-    lib, *, max_false_rate: float = 0.01, target_queries: int = cal.TARGET_QUERIES
+    lib, *, max_false_rate: float = 0.01, target_queries: int | None = None
 ) -> Calibration:
     """Calibrate the verdict of ``lib`` and store the model in it (the revision is not bumped:
     the references are unchanged, so the search index stays valid)."""
@@ -211,7 +214,8 @@ def calibrate(
                 f"{cal.MIN_COMPOUNDS} (until then the verdict uses the fixed rule)"
             )
         seed = _seed(store)
-        data = collect(lib, np.random.default_rng(seed), target_queries)
+        target = cal.TARGET_QUERIES if target_queries is None else target_queries
+        data = collect(lib, np.random.default_rng(seed), target)
         n_spectra = lib.index().size
     pieces, measured = cal.fit(
         data["X"],

@@ -94,18 +94,22 @@ def _synthetic(n, rng):
     right = present & (rng.random(n) < 0.95)
     score = np.where(right, rng.normal(0.93, 0.04, n), rng.normal(0.80, 0.07, n))
     margin = np.where(right, rng.gamma(2.0, 0.05, n), rng.gamma(1.0, 0.02, n))
-    unmatched = rng.poisson(np.where(right, 0.5, 2.5))
+    new = rng.poisson(np.where(right, 0.3, 1.5))
+    missing = rng.poisson(np.where(right, 0.3, 1.5))
+    strength = np.clip(score + rng.normal(0.0, 0.05, n), 0.0, 1.0)
     share = rng.uniform(0.6, 0.95, n)
     nb = rng.integers(8, 30, n)
     crowd = rng.uniform(0.6, 0.9, n)
-    X = np.column_stack([score, margin, unmatched, share, nb, crowd])
+    X = np.column_stack([score, margin, new, missing, strength, share, nb, crowd])
     return X, right, present, np.arange(n) // 4
 
 
 def test_fit_keeps_false_confidence_at_the_rate_and_round_trips_as_plain_json():
     rng = np.random.default_rng(17)
-    X, right, present, groups = _synthetic(3000, rng)
-    pieces, measured = cal.fit(X, right, present, groups, max_false_rate=0.02, seed=1)
+    X, right, present, groups = _synthetic(2000, rng)
+    pieces, measured = cal.fit(
+        X, right, present, groups, max_false_rate=0.02, seed=1, compare_boosting=False
+    )
     assert measured["held_out_confident"] <= 0.02
     assert measured["in_library_right_confident"] > 0.5
     model = cal.CalibratedModel(
@@ -123,7 +127,7 @@ def test_fit_keeps_false_confidence_at_the_rate_and_round_trips_as_plain_json():
     assert back is not None
     np.testing.assert_allclose(back.correct.predict(X[:50]), model.correct.predict(X[:50]))
     # fresh draws from the same process: still at most about the rate, within sampling error
-    X2, right2, present2, _ = _synthetic(4000, rng)
+    X2, right2, present2, _ = _synthetic(3000, rng)
     called = back.correct.raw(X2) >= back.confident_at
     assert called[~present2].mean() <= 0.035
     verdicts = {back.decide(dict(zip(cal.FEATURES, row)))[0] for row in X2[:400]}
@@ -137,9 +141,9 @@ def test_a_model_of_another_layout_version_is_ignored():
 
 def test_confidence_rises_with_the_score():
     rng = np.random.default_rng(18)
-    X, right, present, groups = _synthetic(2000, rng)
+    X, right, present, groups = _synthetic(1000, rng)
     pieces, _ = cal.fit(X, right, present, groups, seed=2, compare_boosting=False)
-    row = np.array([[0.80, 0.05, 1, 0.8, 15, 0.75]])
+    row = np.array([[0.80, 0.05, 1, 0, 0.8, 0.8, 15, 0.75]])
     hi = row.copy()
     hi[0, 0] = 0.95
     assert pieces["correct"].predict(hi)[0] >= pieces["correct"].predict(row)[0]
