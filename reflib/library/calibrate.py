@@ -109,7 +109,7 @@ def _sample(idx, rng, target: int) -> tuple[np.ndarray, int]:
     rows = np.arange(idx.size)
     if rows.size > cal.MAX_REFERENCES:
         rows = np.sort(rng.choice(rows, cal.MAX_REFERENCES, replace=False))
-    copies = int(np.clip(np.ceil(target / max(rows.size, 1)), 1, 40))
+    copies = int(np.clip(round(target / max(rows.size, 1)), 1, 40))
     return rows, copies
 
 

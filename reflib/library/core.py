@@ -482,7 +482,7 @@ class Library:
         verdict, reason = self.rule.decide(features)
         n = compound_count(self.store)
         if n < MIN_COMPOUNDS:
-            why = f"{n} compounds; a calibrated verdict needs {MIN_COMPOUNDS}"
+            why = f"{n} compound{'s' * (n != 1)}; a calibrated verdict needs {MIN_COMPOUNDS}"
         else:
             why = "not calibrated for this library yet: run 'reflib calibrate'"
         return verdict, f"{reason} (fixed rule: {why})", None
