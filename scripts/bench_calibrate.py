@@ -7,8 +7,9 @@ One command, not a test::
     python scripts/bench_calibrate.py --quick    # 300 and 1 000 references
 
 For each size, in one run: the calibration's wall time (neighbour pass and queries together), and
-the median latency of ``lib.search`` on the same queries before and after the calibration, as a
-ratio (the calibrated verdict adds one row look-up and a few dozen multiplications per search).
+the median latency of ``lib.search`` on the same queries without and with the stored model
+(interleaved rounds, the model removed and restored between them), as a ratio (the calibrated
+verdict adds one row look-up and a few dozen multiplications per search).
 The machine is shared: read the ratio measured in the same run, not the absolute times.
 """
 
@@ -16,6 +17,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import statistics
 import sys
 import tempfile
 import time
@@ -43,11 +45,25 @@ def one_size(n: int, work: Path, n_queries: int) -> dict:
         for q in queries:
             lib.search(q, top=5)
 
-    before = bench_speed.median_time(searches, 3) / n_queries
+    searches()  # warm-up: index and norms cached
     t0 = time.perf_counter()
     cal = calibrate(lib)
     t_cal = time.perf_counter() - t0
-    after = bench_speed.median_time(searches, 3) / n_queries
+    model = lib.store.get_meta("calibration")
+    # with and without the stored model, interleaved, so that the shared machine's load drifts
+    # the same way for both
+    times: dict[bool, list[float]] = {False: [], True: []}
+    for _ in range(3):
+        for on in (False, True):
+            with lib.store.write(bump=False):
+                if on:
+                    lib.store.set_meta("calibration", model)
+                else:
+                    lib.store.conn.execute("DELETE FROM meta WHERE key = 'calibration'")
+            t = time.perf_counter()
+            searches()
+            times[on].append((time.perf_counter() - t) / n_queries)
+    before, after = statistics.median(times[False]), statistics.median(times[True])
     lib.close()
     m = cal.measured
     return {
