@@ -50,6 +50,10 @@ from reflib.spectrum import PeakList, Spectrum
 #: Queries scored together in one matrix product by :meth:`Library.search_many`.
 QUERY_CHUNK = 64
 
+#: An ambiguous calibrated verdict lists the bands telling the top two apart when their scores
+#: differ by less than this (common practice, no source).
+DISTINGUISH_MARGIN = 0.1
+
 #: A new spectrum whose best match is another compound at this verdict triggers a warning.
 SIMILAR_WARNING_VERDICT = "confident"
 
@@ -428,7 +432,11 @@ class Library:
         features["crowding"] = self._crowding(hits[0].spectrum_id)
         verdict, reason, confidence = self._verdict(features, idx.size)
         distinguishing: dict[str, list[float]] = {}
-        near = confidence is not None or features["margin"] < self.rule.min_margin
+        # calibrated: whenever the top two are close candidates (a wider margin than the rule's;
+        # beyond it each hit's own missing and new bands already tell them apart)
+        near = features["margin"] < (
+            DISTINGUISH_MARGIN if confidence is not None else self.rule.min_margin
+        )
         if verdict == "ambiguous" and len(hits) > 1 and near:
             _, p1, w1 = explanations[0]
             _, p2, _ = explanations[1]
