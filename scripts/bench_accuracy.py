@@ -135,12 +135,22 @@ def build_library(compounds, seed: int):
     return lib, np.array(curves)
 
 
-def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool):
+def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool, calibrate=False):
     compounds = simlib.make_compounds(n_lib, seed)
     held = simlib.held_out(n_held, seed)
     t0 = time.perf_counter()
     lib, curves = build_library(compounds, seed)
     t_build = time.perf_counter() - t0
+    t_cal = None
+    if calibrate:
+        # reflib's own calibration: the library's references perturbed with reflib's own seed
+        # (reflib.library.calibrate.SEED_WORD); the held-out compounds and query seeds below
+        # are never seen by it
+        from reflib.library.calibrate import calibrate as calibrate_library
+
+        t0 = time.perf_counter()
+        calibrate_library(lib)
+        t_cal = time.perf_counter() - t0
     base = Baselines(curves)
     index = {c.name: i for i, c in enumerate(compounds)}
     rows = []
@@ -158,6 +168,7 @@ def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool):
                 "prep": label,
                 "in_library": in_lib,
                 "verdict": res.verdict,
+                "confidence": res.confidence,
                 "hits": names[:3],
                 "scores": [round(float(h.score), 4) for h in res.hits[:3]],
                 "features": {k: float(v) for k, v in res.features.items()},
@@ -176,7 +187,9 @@ def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool):
         if verbose:
             print(f"  {label}: done after {time.perf_counter() - t0:.0f} s", file=sys.stderr)
     t_query = time.perf_counter() - t0
-    return rows, {"build_s": t_build, "query_s": t_query, "n_lib": n_lib, "n_held": n_held}
+    timing = {"build_s": t_build, "query_s": t_query, "n_lib": n_lib, "n_held": n_held}
+    timing["calibrate_s"] = t_cal
+    return rows, timing
 
 
 def _pct(k: int, n: int) -> str:
@@ -282,8 +295,64 @@ def report(rows, timing, preps) -> dict:
             f"({100 * per['all']['top1']:.1f} % vs {100 * base_all:.1f} %)"
         )
     print(f"  confident but wrong (in library): {100 * summary['confident_but_wrong']:.1f} %")
+    summary.update(calibrated_report(inlib, held, timing))
     summary["per_prep"] = per
     return summary
+
+
+#: Targets of the calibrated verdict (issue 14).
+CALIBRATED_TARGETS = {
+    "held_out_confident": ("<=", 0.01),
+    "right_confident": (">=", 0.90),
+    "confident_and_wrong": ("<=", 0.005),
+    "ece": ("<=", 0.05),
+}
+
+
+def calibrated_report(inlib, held, timing) -> dict:
+    """Held-out analogs called confident, correct top hits called confident, confident and
+    wrong (over all queries) and the expected calibration error of ``confidence`` over the
+    in-library and held-out queries together (label: the top hit is the query's compound)."""
+    from reflib.analysis.calibration import ece, reliability
+
+    rows = inlib + held
+    right = [r for r in inlib if r["rank"] == 1]
+    out = {
+        "held_out_confident": sum(r["verdict"] == "confident" for r in held) / max(len(held), 1),
+        "right_confident": sum(r["verdict"] == "confident" for r in right) / max(len(right), 1),
+        "confident_and_wrong": sum(
+            r["verdict"] == "confident" and not (r["in_library"] and r["rank"] == 1) for r in rows
+        )
+        / max(len(rows), 1),
+    }
+    with_conf = [r for r in rows if r.get("confidence") is not None]
+    print("\nCalibrated verdict (issue 14)")
+    if timing.get("calibrate_s") is not None:
+        print(f"  reflib calibrate took {timing['calibrate_s']:.1f} s")
+    if len(with_conf) == len(rows) and rows:
+        p = np.array([r["confidence"] for r in rows])
+        y = np.array([float(r["in_library"] and r["rank"] == 1) for r in rows])
+        out["ece"] = ece(p, y)
+        print("  reliability (all queries): bin, n, mean confidence, observed right")
+        for b in reliability(p, y):
+            print(
+                f"    {b['lo']:.1f}-{b['hi']:.1f} {b['n']:6d} {b['predicted']:8.3f} "
+                f"{b['observed']:8.3f}"
+            )
+    else:
+        out["ece"] = None
+        print("  no confidence on these results (library not calibrated: --calibrate)")
+    for key, (op, target) in CALIBRATED_TARGETS.items():
+        v = out[key]
+        if v is None:
+            print(f"  {key:22} (not measured)")
+            continue
+        ok = v <= target if op == "<=" else v >= target
+        print(
+            f"  {'ok  ' if ok else 'MISS'} {key:22} {100 * v:6.2f} %   "
+            f"target {op} {100 * target:g} %"
+        )
+    return out
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -296,6 +365,9 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--json", type=Path, default=None, help="write per-query rows here")
     ap.add_argument(
         "--jobs", type=int, default=1, help="worker processes (each builds its own library)"
+    )
+    ap.add_argument(
+        "--calibrate", action="store_true", help="run reflib calibrate on the library first"
     )
     ap.add_argument("-v", "--verbose", action="store_true")
     args = ap.parse_args(argv)
@@ -310,7 +382,11 @@ def main(argv: list[str] | None = None) -> int:
         chunks = [preps[i :: args.jobs] for i in range(args.jobs) if preps[i :: args.jobs]]
         with multiprocessing.get_context("spawn").Pool(len(chunks)) as pool:
             parts = pool.starmap(
-                run, [(n_lib, n_held, args.seed, chunk, args.verbose) for chunk in chunks]
+                run,
+                [
+                    (n_lib, n_held, args.seed, chunk, args.verbose, args.calibrate)
+                    for chunk in chunks
+                ],
             )
         rows = [r for part, _t in parts for r in part]
         rows.sort(key=lambda r: preps.index(r["prep"]))
@@ -318,7 +394,7 @@ def main(argv: list[str] | None = None) -> int:
         timing["build_s"] = max(t["build_s"] for _p, t in parts)
         timing["query_s"] = max(t["query_s"] for _p, t in parts)
     else:
-        rows, timing = run(n_lib, n_held, args.seed, preps, args.verbose)
+        rows, timing = run(n_lib, n_held, args.seed, preps, args.verbose, args.calibrate)
     summary = report(rows, timing, preps)
     if args.json:
         args.json.write_text(

@@ -83,6 +83,9 @@ class SearchResult:
     masked: list[tuple[float, float, str]]
     features: dict[str, float] = field(default_factory=dict)
     distinguishing: dict[str, list[float]] = field(default_factory=dict)
+    #: probability (0..1) that the top hit is the query's compound, from the library's
+    #: calibration (:mod:`reflib.analysis.calibration`); None while the fixed rule decides
+    confidence: float | None = None
 
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {
@@ -92,6 +95,7 @@ class SearchResult:
                 "range_cm1": [round(self.range_cm1[0], 1), round(self.range_cm1[1], 1)],
             },
             "verdict": self.verdict,
+            "confidence": None if self.confidence is None else round(float(self.confidence), 3),
             "verdict_reason": self.reason,
             "hits": [h.to_dict() for h in self.hits],
             "masked": [[round(lo, 1), round(hi, 1), why] for lo, hi, why in self.masked],

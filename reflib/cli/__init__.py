@@ -16,7 +16,7 @@ import typer
 # Each command module registers its commands on the app when imported; the order here is the
 # order of the panels in ``reflib --help``.
 # isort: off
-from reflib.cli import library, search, groups, analysis, group, health, demo  # noqa: F401
+from reflib.cli import library, search, groups, analysis, group, calibrate, health, demo  # noqa: F401
 
 # isort: on
 from reflib.cli.common import app

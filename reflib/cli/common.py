@@ -97,3 +97,17 @@ def _where(**conditions: Any):
     from reflib.library.filters import Where
 
     return Where.of(conditions)
+
+
+def auto_calibrate(lib) -> None:
+    """Calibrate after an add or import when the library has grown or shrunk enough since the
+    last calibration (:func:`reflib.library.calibrate.needs_calibration`); one line on stderr."""
+    from reflib.library.calibrate import maybe_calibrate
+
+    done = maybe_calibrate(lib)
+    if done is not None:
+        typer.echo(
+            f"recalibrated the verdict on {done.model.n_compounds} compounds in "
+            f"{done.seconds:.1f} s (reflib calibrate prints what it measured)",
+            err=True,
+        )

@@ -14,7 +14,10 @@ OperatorOpt = typer.Option(
 )
 
 
-@app.command()
+PANEL = "The group's library"
+
+
+@app.command(rich_help_panel=PANEL)
 def merge(
     other: Path = typer.Argument(..., help="Another reflib library file (opened read-only)."),
     operator: str = OperatorOpt,
@@ -49,7 +52,7 @@ def merge(
         raise typer.Exit(1)
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def edit(
     ref: str = typer.Argument(..., help="Compound id or name."),
     name: str = typer.Option(None, "--name", help="New name."),
@@ -75,7 +78,7 @@ def edit(
         typer.echo(f"{out['name']!r}: {ch['field']}: {ch['old']!r} -> {ch['new']!r}")
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def history(
     ref: str = typer.Argument(..., help="Compound id or name (also of a removed compound)."),
     json_out: bool = typer.Option(False, "--json", help="Print JSON."),
@@ -96,7 +99,7 @@ def history(
         typer.echo(f"{r['at']}  {r['operator']:<12}  {r['compound_name']}: {what}")
 
 
-@app.command()
+@app.command(rich_help_panel=PANEL)
 def serve(
     host: str = typer.Option("127.0.0.1", "--host", help="Address to listen on."),
     port: int = typer.Option(8017, "--port", help="Port to listen on."),

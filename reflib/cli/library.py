@@ -21,6 +21,7 @@ from reflib.cli.common import (
     _usage,
     _where,
     app,
+    auto_calibrate,
 )
 
 PANEL = "Build and browse the library"
@@ -82,6 +83,7 @@ def add(
                 strict=strict,
             )
             results.append(res)
+        auto_calibrate(lib)
     if json_out:
         _echo_json([r.to_dict() for r in results])
         return
@@ -111,6 +113,7 @@ def import_(
     with _open(library) as lib:
         with typer.progressbar(length=len(entries), label="importing", file=sys.stderr) as bar:
             report = run_import(lib, entries, force=force, progress=bar.update)
+        auto_calibrate(lib)
     typer.echo(
         f"added {report.added}, skipped {report.skipped} already in the library, "
         f"failed {len(report.failures)}"

@@ -21,6 +21,7 @@ from typing import Any
 
 import numpy as np
 
+from reflib.analysis.calibration import MIN_COMPOUNDS, mask_share
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.search import (
     DEFAULT_RULE,
@@ -33,6 +34,7 @@ from reflib.analysis.search import (
 )
 from reflib.chem import prep as prep_mod
 from reflib.errors import ValidationError
+from reflib.library.calibrate import compound_count, load_model, stale
 from reflib.library.entries import (
     AddResult,
     clean_name,
@@ -49,6 +51,10 @@ from reflib.spectrum import PeakList, Spectrum
 
 #: Queries scored together in one matrix product by :meth:`Library.search_many`.
 QUERY_CHUNK = 64
+
+#: An ambiguous calibrated verdict lists the bands telling the top two apart when their scores
+#: differ by less than this (common practice, no source).
+DISTINGUISH_MARGIN = 0.1
 
 #: A new spectrum whose best match is another compound at this verdict triggers a warning.
 SIMILAR_WARNING_VERDICT = "confident"
@@ -443,9 +449,16 @@ class Library:
             "matched_strength": ex1.matched_strength,
             "n_query_bands": float(len(peaks)),
         }
-        verdict, reason = self.rule.decide(features)
+        features["mask_share"] = mask_share(explanations[0][2])
+        features["crowding"] = self._crowding(hits[0].spectrum_id)
+        verdict, reason, confidence = self._verdict(features, idx.size)
         distinguishing: dict[str, list[float]] = {}
-        if verdict == "ambiguous" and len(hits) > 1 and features["margin"] < self.rule.min_margin:
+        # calibrated: whenever the top two are close candidates (a wider margin than the rule's;
+        # beyond it each hit's own missing and new bands already tell them apart)
+        near = features["margin"] < (
+            DISTINGUISH_MARGIN if confidence is not None else self.rule.min_margin
+        )
+        if verdict == "ambiguous" and len(hits) > 1 and near:
             _, p1, w1 = explanations[0]
             _, p2, _ = explanations[1]
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
@@ -461,7 +474,47 @@ class Library:
             masked=masked,
             features=features,
             distinguishing=distinguishing,
+            confidence=confidence,
         )
+
+    # --- the calibrated verdict (reflib.library.calibrate) --------------------------------------
+
+    def _model(self):
+        """The stored calibration model (parsed once per stored text), or None."""
+        text = self.store.get_meta("calibration")
+        if text != getattr(self, "_cal_text", 0):  # 0: nothing read yet
+            self._cal_text = text
+            self._cal_model = load_model(self.store)
+        return self._cal_model
+
+    def forget_calibration(self) -> None:
+        self._cal_text = 0
+
+    def _crowding(self, spectrum_id: int) -> float:
+        row = self.store.conn.execute(
+            "SELECT score FROM neighbours WHERE spectrum_id = ?", (spectrum_id,)
+        ).fetchone()
+        return float(row[0]) if row else float("nan")
+
+    def _verdict(self, features: dict[str, float], n_spectra: int):
+        """Verdict, reason and confidence: the calibrated model when this library has one for
+        its encoding, else the fixed rule (confidence None) and why."""
+        model = self._model()
+        if model is not None and model.encoding_key == self.encoding.key():
+            verdict, reason, conf = model.decide(features)
+            if stale(model, n_spectra, model.encoding_key):
+                reason += (
+                    f"; calibrated when the library had {model.n_spectra} spectra, now "
+                    f"{n_spectra}: run 'reflib calibrate'"
+                )
+            return verdict, reason, conf
+        verdict, reason = self.rule.decide(features)
+        n = compound_count(self.store)
+        if n < MIN_COMPOUNDS:
+            why = f"{n} compound{'s' * (n != 1)}; a calibrated verdict needs {MIN_COMPOUNDS}"
+        else:
+            why = "not calibrated for this library yet: run 'reflib calibrate'"
+        return verdict, f"{reason} (fixed rule: {why})", None
 
     def _names(self, compound_ids: list[int]) -> dict[int, tuple[str, str]]:
         if not compound_ids:

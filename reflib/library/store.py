@@ -55,7 +55,9 @@ if TYPE_CHECKING:
 #: 4: a ``history`` table (every add, remove, merge and
 #: edit with time, operator, old and new value) and ``spectra.source_library`` (where a merged
 #: spectrum came from).
-SCHEMA_VERSION = 4
+#: 5: ``neighbours``, each spectrum's best score against another compound (the calibrated
+#: verdict's crowding).
+SCHEMA_VERSION = 5
 ROLES = ("starting material", "intermediate", "product", "reagent", "solvent", "other")
 ROLE_ALIASES = {
     "sm": "starting material",
@@ -825,5 +827,24 @@ def _migrate_3_to_4(conn: sqlite3.Connection) -> None:
         conn.execute("ALTER TABLE spectra ADD COLUMN source_library TEXT")
 
 
+def _migrate_4_to_5(conn: sqlite3.Connection) -> None:
+    """Schema 5: each spectrum's nearest other compound's score, written by a calibration.
+
+    The calibrated verdict (:mod:`reflib.library.calibrate`) reads how crowded the top hit's
+    neighbourhood is from here; the model itself is JSON in ``meta`` (key ``calibration``).
+    Rows go with their spectrum.
+    """
+    conn.execute(
+        "CREATE TABLE IF NOT EXISTS neighbours ("
+        "spectrum_id INTEGER PRIMARY KEY REFERENCES spectra(id) ON DELETE CASCADE, "
+        "score REAL NOT NULL)"
+    )
+
+
 #: Migration steps: MIGRATIONS[n] turns a schema n-1 library into schema n.
-MIGRATIONS = {2: _migrate_1_to_2, 3: _migrate_2_to_3, 4: _migrate_3_to_4}
+MIGRATIONS = {
+    2: _migrate_1_to_2,
+    3: _migrate_2_to_3,
+    4: _migrate_3_to_4,
+    5: _migrate_4_to_5,
+}

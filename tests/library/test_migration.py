@@ -140,7 +140,7 @@ def test_v1_library_migrates_keeping_every_row(v1):
     before = dump(v1)
     assert len(before["peaks"]) == 18 and len(before["spectra"]) == 4
     s = Store.open(v1)
-    assert s.schema_version == SCHEMA_VERSION == 4
+    assert s.schema_version == SCHEMA_VERSION == 5
     assert re.fullmatch(r"[0-9a-f]{32}", s.get_meta("library_id"))
     assert s.get_meta("reflib_version")
     s.close()
@@ -157,6 +157,8 @@ def test_v1_library_migrates_keeping_every_row(v1):
     assert new_meta == {"library_id", "reflib_version"}
     assert dict(after["meta"])["revision"] == "8"  # one write: the migration
     con = sqlite3.connect(v1)
+    # schema 3: the calibration's neighbour scores, empty until 'reflib calibrate'
+    assert con.execute("SELECT COUNT(*) FROM neighbours").fetchone()[0] == 0
     indexes = {r[0] for r in con.execute("SELECT name FROM sqlite_master WHERE type='index'")}
     plan = " ".join(
         str(r[-1])

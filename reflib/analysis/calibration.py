@@ -1,0 +1,500 @@
+"""The calibrated verdict: perturbed queries from a library's own references, search features,
+a small model of the probability that the top hit is right, and the thresholds on it.
+
+Numerical core, no I/O. :mod:`reflib.library.calibrate` runs it on a library; a search only
+evaluates a stored :class:`CalibratedModel` with numpy (scikit-learn is imported inside
+:func:`fit` alone).
+
+The model is two logistic regressions over :data:`FEATURES` (plus a few transforms, see
+:func:`design`), each followed by an isotonic map: ``confidence`` is the probability that the
+top hit is the query's compound, ``p_any`` the probability that the query's compound is in the
+library at all. Both are stored as plain numbers (means, scales, coefficients, intercepts,
+isotonic knots); a library file never runs code.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import asdict, dataclass, field
+from typing import Any
+
+import numpy as np
+
+from reflib.chem import prep as prep_mod
+from reflib.spectrum import PeakList
+
+#: Version of the stored model layout; a library with another version falls back to the rule.
+MODEL_VERSION = 1
+
+#: Search features the model reads (names as in :attr:`SearchResult.features`).
+FEATURES = (
+    "score",
+    "margin",
+    "strong_new",
+    "strong_missing",
+    "matched_strength",
+    "mask_share",
+    "n_query_bands",
+    "crowding",
+)
+
+#: A library needs this many compounds before it can be calibrated: with fewer, a left-out
+#: compound has too few analogs to stand for a real unknown (a judgement, common practice of
+#: leave-one-out estimates, no source).
+MIN_COMPOUNDS = 20
+
+#: Recalibrate when the number of spectra has changed by this share since the last calibration.
+RECALIBRATE_CHANGE = 0.2
+
+#: Calibration aims at this many queries in each setting (compound in, compound left out).
+TARGET_QUERIES = 1200
+
+#: At most this many references are perturbed (a random sample of a bigger library): the cost of
+#: a calibration stops growing with the library except for the neighbour pass.
+MAX_REFERENCES = 2000
+
+#: Share of searches assumed to be of a compound the library holds (weights the left-out
+#: queries in the fit). A group mostly measures what it has made before; a judgement, no source.
+PRIOR_IN_LIBRARY = 0.8
+
+#: The preparations a query is re-made in (the trade's common ones; solutions in cells).
+QUERY_PREPS: tuple[tuple[str, ...], ...] = (
+    ("film",),
+    ("atr",),
+    ("kbr",),
+    ("nujol",),
+    ("chcl3", "nacl"),
+    ("ccl4", "kbr-window"),
+    ("ch2cl2", "nacl"),
+    ("cdcl3", "caf2"),
+)
+
+#: Perturbation sizes (cm-1 and relative): a measurement on another day, instrument or
+#: preparation (common practice, no source).
+#: The reference itself is one measurement already, so these are larger than one day-to-day
+#: change: two measurements differ by about sqrt(2) times one.
+GLOBAL_SHIFT_SD = 3.0
+BAND_JITTER_SD = 2.0
+INTENSITY_LOG_SD = 0.25
+WIDTH_LOG_SD = 0.15
+DROP_WEAK_BELOW = 0.15
+DROP_WEAK_P = 0.35
+DROP_ANY_P = 0.03
+SPURIOUS_MEAN = 1.5
+#: Dilute solution frees part of a hydrogen-bonded O-H: a sharp band near 3610-3630 cm-1
+#: appears and the broad 3200-3550 band weakens (common practice, no source).
+FREE_OH = (3610.0, 3630.0)
+#: The axis a perturbed query is drawn on and picked from (cm-1).
+AXIS_STEP = 2.0
+NOISE_SD = (0.001, 0.004)  # of an absorbance whose strongest band is about 0.8
+BASELINE_MAX = 0.03
+
+
+# --- perturbed queries ------------------------------------------------------------------------
+
+
+def perturb(
+    peaks: PeakList,
+    ref_tokens: list[str] | tuple[str, ...],
+    query_tokens: list[str] | tuple[str, ...],
+    rng: np.random.Generator,
+) -> PeakList:
+    """A peak list as another measurement of the same compound in ``query_tokens`` might give.
+
+    Global shift and per-band jitter, intensity and width changes, weak bands lost, a few
+    spurious weak bands (noise, baseline wiggles), ATR's intensity slope added or removed, the
+    query preparation's own bands added, and nothing left where the preparation spoils the
+    spectrum entirely (weight 0: opaque solvent regions, below a window's cut-off).
+    """
+    n = len(peaks)
+    pos = peaks.positions + rng.normal(0.0, GLOBAL_SHIFT_SD) + rng.normal(0.0, BAND_JITTER_SD, n)
+    inten = peaks.intensities * np.exp(rng.normal(0.0, INTENSITY_LOG_SD, n))
+    widths = np.where(np.isfinite(peaks.widths), peaks.widths, 10.0)
+    widths = widths * np.exp(rng.normal(0.0, WIDTH_LOG_SD, n))
+    broad = peaks.broad.copy()
+    q_atr, r_atr = "atr" in query_tokens, "atr" in ref_tokens
+    if q_atr != r_atr:  # ATR bands grow toward low wavenumber (prep.atr_correction)
+        inten = inten * (1000.0 / pos if q_atr else pos / 1000.0)
+    inten = inten / max(float(inten.max()), 1e-12) if n else inten
+    keep = rng.random(n) >= np.where(inten < DROP_WEAK_BELOW, DROP_WEAK_P, DROP_ANY_P)
+    pos, inten, widths, broad = pos[keep], inten[keep], widths[keep], broad[keep]
+    k = int(rng.poisson(SPURIOUS_MEAN))
+    extra = [
+        (float(rng.uniform(450.0, 3900.0)), float(rng.uniform(0.02, 0.12)), 8.0, False)
+        for _ in range(k)
+    ]
+    scale = float(rng.uniform(0.3, 1.0))
+    extra += [(p, i * scale, f, False) for p, i, f, _t in prep_mod.own_bands(list(query_tokens))]
+    if extra:
+        e = np.array([x[:3] for x in extra], dtype=float)
+        pos = np.concatenate([pos, e[:, 0]])
+        inten = np.concatenate([inten, e[:, 1]])
+        widths = np.concatenate([widths, e[:, 2]])
+        broad = np.concatenate([broad, np.array([x[3] for x in extra], dtype=bool)])
+    if any(prep_mod.PREPARATIONS[t].kind == "solution" for t in query_tokens):
+        oh = broad & (pos >= 3200.0) & (pos <= 3560.0)
+        for i in np.flatnonzero(oh):
+            kept = float(rng.uniform(0.3, 0.6))
+            pos = np.append(pos, rng.uniform(*FREE_OH))
+            inten = np.append(inten, inten[i] * (1.0 - kept) * 1.5)
+            widths = np.append(widths, rng.uniform(15.0, 25.0))
+            broad = np.append(broad, False)
+            inten[i] *= kept
+    seen = prep_mod.weight_profile(pos, list(query_tokens), air=False) > 0
+    seen &= (pos > 0) & (inten > 0)
+    order = np.argsort(pos[seen])
+    return PeakList(
+        pos[seen][order],
+        np.clip(inten[seen][order], 1e-6, None),
+        widths[seen][order],
+        None,
+        broad[seen][order],
+    )
+
+
+def measure(peaks: PeakList, rng: np.random.Generator) -> PeakList:
+    """The bands a spectrometer and the peak picker would report for ``peaks``: drawn as
+    absorbance (half Lorentzian, half Gaussian bands) on a 400-4000 cm-1 axis with a sloping
+    baseline and noise, then picked by :func:`reflib.signal.peaks.pick_peaks` as any added
+    spectrum is (close bands merge, weak ones sink in the noise)."""
+    from reflib.signal.peaks import pick_peaks
+    from reflib.spectrum import Spectrum
+
+    x = np.arange(400.0, 4000.0 + AXIS_STEP / 2, AXIS_STEP)
+    y = np.zeros_like(x)
+    fw = np.where(np.isfinite(peaks.widths), peaks.widths, 12.0)
+    for p, a, f in zip(peaks.positions, peaks.intensities, fw):
+        d = (x - p) / (max(f, 2.0) / 2.0)
+        y += a * (0.5 / (1.0 + d * d) + 0.5 * np.exp(-np.log(2.0) * d * d))
+    y *= 0.8 / max(float(y.max()), 1e-9)
+    y += float(rng.uniform(0.0, BASELINE_MAX)) * (0.5 + 0.5 * (x - 400.0) / 3600.0)
+    y += rng.normal(0.0, float(rng.uniform(*NOISE_SD)), x.size)
+    return pick_peaks(Spectrum(x, y))
+
+
+def mask_share(w: np.ndarray) -> float:
+    """Share of the spectrum a comparison still uses: the mean of the weights, each at most 1."""
+    w = np.asarray(w, dtype=float)
+    return float(np.clip(w, 0.0, 1.0).mean()) if w.size else 0.0
+
+
+def distinct_top2(scores: np.ndarray, compound_ids: np.ndarray) -> tuple[np.ndarray, ...]:
+    """Per column of an (n, m) score matrix: row of the best reference, its score, and the best
+    score of any *other* compound (0 when there is none)."""
+    top = np.argmax(scores, axis=0)
+    s1 = scores[top, np.arange(scores.shape[1])]
+    other = compound_ids[:, None] != compound_ids[top][None, :]
+    s2 = np.where(other, scores, 0.0).max(axis=0) if scores.shape[0] else s1 * 0
+    return top, s1.astype(float), s2.astype(float)
+
+
+# --- the model -------------------------------------------------------------------------------
+
+
+def design(f: np.ndarray) -> np.ndarray:
+    """Model inputs from raw features (columns in :data:`FEATURES` order).
+
+    The raw features, the log of the band counts, and how far the top score stands above the
+    top hit's own nearest neighbour (a top hit in a crowded family needs more).
+    """
+    f = np.atleast_2d(np.asarray(f, dtype=float))
+    score, margin, new, missing, strength, share, nbands, crowd = f.T
+    return np.column_stack(
+        [
+            score,
+            margin,
+            np.log1p(np.maximum(new, 0.0)),
+            np.log1p(np.maximum(missing, 0.0)),
+            strength,
+            share,
+            np.log1p(np.maximum(nbands, 0.0)),
+            crowd,
+            score - crowd,
+            np.sqrt(np.maximum(margin, 0.0)),
+        ]
+    )
+
+
+@dataclass
+class Logistic:
+    """A fitted logistic regression on standardised :func:`design` columns, then an isotonic
+    map given by knots (raw probability -> observed frequency), interpolated linearly."""
+
+    mean: list[float]
+    scale: list[float]
+    coef: list[float]
+    intercept: float
+    knots_x: list[float]
+    knots_y: list[float]
+
+    def raw(self, f: np.ndarray) -> np.ndarray:
+        x = (design(f) - np.asarray(self.mean)) / np.asarray(self.scale)
+        z = x @ np.asarray(self.coef) + self.intercept
+        return 1.0 / (1.0 + np.exp(-np.clip(z, -40.0, 40.0)))
+
+    def calibrate(self, p: np.ndarray) -> np.ndarray:
+        if not self.knots_x:
+            return np.asarray(p, dtype=float)
+        return np.interp(p, self.knots_x, self.knots_y)
+
+    def predict(self, f: np.ndarray) -> np.ndarray:
+        return self.calibrate(self.raw(f))
+
+
+@dataclass
+class CalibratedModel:
+    """What a calibration stores in the library (as JSON in the meta table)."""
+
+    correct: Logistic
+    present: Logistic
+    confident_at: float  # on the raw probability of ``correct``
+    no_match_below: float  # on ``present``
+    default_crowding: float
+    encoding_key: str
+    n_compounds: int
+    n_spectra: int
+    max_false_rate: float
+    date: str
+    measured: dict[str, Any] = field(default_factory=dict)
+    version: int = MODEL_VERSION
+
+    def to_json(self) -> str:
+        return json.dumps(asdict(self), sort_keys=True)
+
+    @classmethod
+    def from_json(cls, text: str) -> CalibratedModel | None:
+        """The stored model, or None when absent, of another version, or unreadable."""
+        try:
+            d = json.loads(text)
+            if not isinstance(d, dict) or d.get("version") != MODEL_VERSION:
+                return None
+            d["correct"] = Logistic(**d["correct"])
+            d["present"] = Logistic(**d["present"])
+            return cls(**d)
+        except (TypeError, ValueError, KeyError):
+            return None
+
+    def row(self, features: dict[str, float]) -> np.ndarray:
+        f = dict(features)
+        if not math.isfinite(float(f.get("crowding", float("nan")))):
+            f["crowding"] = self.default_crowding
+        return np.array([[float(f[k]) for k in FEATURES]])
+
+    def decide(self, features: dict[str, float]) -> tuple[str, str, float]:
+        """Verdict, reason and confidence of one search's features."""
+        x = self.row(features)
+        raw = float(self.correct.raw(x)[0])
+        conf = float(self.correct.calibrate(np.array([raw]))[0])
+        need = float(self.correct.calibrate(np.array([self.confident_at]))[0])
+        if raw >= self.confident_at:
+            return (
+                "confident",
+                (
+                    f"confidence {conf:.2f} (at least {need:.2f} is called confident on this "
+                    "library: its held-out analogs reached it at most "
+                    f"{100 * self.max_false_rate:g} % of the time)"
+                ),
+                conf,
+            )
+        p_any = float(self.present.predict(x)[0])
+        if p_any < self.no_match_below:
+            return (
+                "no-match",
+                (
+                    f"confidence {conf:.2f}; the chance that any library compound is the answer is "
+                    f"only {p_any:.2f}: probably not in the library"
+                ),
+                conf,
+            )
+        return (
+            "ambiguous",
+            (
+                f"confidence {conf:.2f} is below the {need:.2f} needed: the top hit, a close "
+                "candidate, or an analog not in the library; see the distinguishing bands"
+            ),
+            conf,
+        )
+
+
+def _fit_logistic(X, y, w, Xcal, ycal, wcal) -> Logistic:
+    from sklearn.isotonic import IsotonicRegression
+    from sklearn.linear_model import LogisticRegression
+
+    D = design(X)
+    mean = D.mean(axis=0)
+    scale = D.std(axis=0)
+    scale[scale <= 1e-12] = 1.0
+    lr = LogisticRegression(C=1.0, max_iter=2000)
+    lr.fit((D - mean) / scale, y, sample_weight=w)
+    m = Logistic(
+        mean.tolist(), scale.tolist(), lr.coef_[0].tolist(), float(lr.intercept_[0]), [], []
+    )
+    raw = m.raw(Xcal)
+    iso = IsotonicRegression(y_min=0.0, y_max=1.0, out_of_bounds="clip")
+    iso.fit(raw, ycal, sample_weight=wcal)
+    m.knots_x, m.knots_y = _block_centres(raw, iso.predict(raw), wcal)
+    return m
+
+
+def _block_centres(raw: np.ndarray, level: np.ndarray, w: np.ndarray) -> tuple[list, list]:
+    """Knots through the (weighted) centre of each isotonic block: the map rises strictly
+    between centres instead of in steps, so equal confidences mean equal evidence."""
+    xs, ys = [], []
+    for v in np.unique(level):
+        sel = level == v
+        xs.append(float(np.average(raw[sel], weights=w[sel])))
+        ys.append(float(v))
+    order = np.argsort(xs)
+    xs_a, ys_a = np.asarray(xs)[order], np.maximum.accumulate(np.asarray(ys)[order])
+    return [0.0, *xs_a.tolist(), 1.0], [float(ys_a[0]), *ys_a.tolist(), float(ys_a[-1])]
+
+
+def reliability(
+    p: np.ndarray, y: np.ndarray, w: np.ndarray | None = None, bins: int = 10
+) -> list[dict[str, float]]:
+    """Predicted against observed in equal-width bins: lo, hi, n, share (of the weight),
+    mean predicted, observed; ``w`` weighs the rows (default all 1)."""
+    p, y = np.asarray(p, float), np.asarray(y, float)
+    w = np.ones_like(p) if w is None else np.asarray(w, float)
+    b = np.minimum((p * bins).astype(int), bins - 1)
+    total = float(w.sum())
+    out = []
+    for k in range(bins):
+        s = b == k
+        if s.any() and w[s].sum() > 0:
+            out.append(
+                {
+                    "lo": k / bins,
+                    "hi": (k + 1) / bins,
+                    "n": int(s.sum()),
+                    "share": float(w[s].sum() / total),
+                    "predicted": float(np.average(p[s], weights=w[s])),
+                    "observed": float(np.average(y[s], weights=w[s])),
+                }
+            )
+    return out
+
+
+def ece(p: np.ndarray, y: np.ndarray, w: np.ndarray | None = None, bins: int = 10) -> float:
+    """Expected calibration error: the share-weighted mean |predicted - observed| over
+    equal-width probability bins (``w`` weighs the rows)."""
+    if np.asarray(p).size == 0:
+        return float("nan")
+    rows = reliability(p, y, w, bins)
+    return float(sum(r["share"] * abs(r["predicted"] - r["observed"]) for r in rows))
+
+
+def _threshold(raw_neg: np.ndarray, rate: float) -> float:
+    """Smallest raw probability that at most ``rate`` of the negatives reach."""
+    if raw_neg.size == 0:
+        return 0.5
+    s = np.sort(raw_neg)[::-1]
+    allowed = int(math.floor(rate * s.size))
+    if allowed >= s.size:
+        return 0.0
+    return float(np.nextafter(s[allowed], 1.0))
+
+
+def fit(
+    X: np.ndarray,
+    correct: np.ndarray,
+    present: np.ndarray,
+    groups: np.ndarray,
+    *,
+    max_false_rate: float = 0.01,
+    prior_in_library: float = PRIOR_IN_LIBRARY,
+    seed: int = 0,
+    compare_boosting: bool = True,
+) -> tuple[dict[str, Any], dict[str, Any]]:
+    """Fit both models on the features ``X`` (rows in :data:`FEATURES` order) of calibration
+    queries and choose the thresholds.
+
+    ``correct``: the top hit was the query's compound; ``present``: the compound was in the
+    library; ``groups``: the query's compound (folds never split a compound). The logistic
+    regressions are fitted on 60 % of the compounds, their isotonic maps and the measurements on
+    the other 40 %. Returns the pieces of a :class:`CalibratedModel` and what was measured.
+    """
+    X = np.asarray(X, float)
+    correct = np.asarray(correct, bool)
+    present = np.asarray(present, bool)
+    rng = np.random.default_rng(seed)
+    ids = np.unique(groups)
+    rng.shuffle(ids)
+    fit_ids = set(ids[: max(1, int(round(0.6 * ids.size)))].tolist())
+    a = np.array([g in fit_ids for g in groups])
+    b = ~a
+    n_in, n_out = present.sum(), (~present).sum()
+    w = np.where(present, prior_in_library / max(n_in, 1), (1 - prior_in_library) / max(n_out, 1))
+    w = w * X.shape[0]
+    m_correct = _fit_logistic(X[a], correct[a], w[a], X[b], correct[b], w[b])
+    m_present = _fit_logistic(X[a], present[a], w[a], X[b], present[b], w[b])
+    neg = ~correct  # held-out analogs and wrong in-library top hits
+    raw = m_correct.raw(X)
+    confident_at = _threshold(raw[neg & ~present], max_false_rate)
+    wrong_in = neg & present
+    if wrong_in.any():
+        confident_at = max(confident_at, _threshold(raw[wrong_in], max_false_rate))
+    p_any = m_present.predict(X)
+    right_in = present & correct
+    no_match_below = float(min(0.5, np.quantile(p_any[right_in], 0.05))) if right_in.any() else 0.2
+    conf = m_correct.calibrate(raw)
+    called = raw >= confident_at
+    measured: dict[str, Any] = {
+        "queries": int(X.shape[0]),
+        "in_library_queries": int(n_in),
+        "held_out_queries": int(n_out),
+        "in_library_right_confident": float(called[right_in].mean()) if right_in.any() else 0.0,
+        "in_library_confident": float(called[present].mean()) if n_in else 0.0,
+        "held_out_confident": float(called[~present].mean()) if n_out else 0.0,
+        "confident_wrong": float((called & neg & present).sum() / max(n_in, 1)),
+        "top1_in_library": float(correct[present].mean()) if n_in else 0.0,
+        "ece_evaluation": ece(conf[b], correct[b], w[b]),
+        "reliability": reliability(conf[b], correct[b], w[b]),
+        "evaluation_queries": int(b.sum()),
+    }
+    if compare_boosting:
+        measured["model_comparison"] = _compare(X, correct, w, a, b, m_correct)
+    model = {
+        "correct": m_correct,
+        "present": m_present,
+        "confident_at": float(confident_at),
+        "no_match_below": no_match_below,
+        "default_crowding": float(np.median(X[:, FEATURES.index("crowding")])),
+    }
+    return model, measured
+
+
+def _compare(X, y, w, a, b, m_lr: Logistic) -> dict[str, float]:
+    """Expected calibration error and Brier score on the evaluation compounds of the logistic
+    regression (raw and isotonic, the isotonic map cross-fitted in two halves) and of gradient
+    boosting fitted on the same rows."""
+    from sklearn.ensemble import HistGradientBoostingClassifier
+    from sklearn.isotonic import IsotonicRegression
+    from threadpoolctl import threadpool_limits
+
+    gb = HistGradientBoostingClassifier(max_iter=100, learning_rate=0.1, random_state=0)
+    with threadpool_limits(1):  # its threads only thrash on a shared machine at this size
+        gb.fit(design(X[a]), y[a], sample_weight=w[a])
+        p_gb = gb.predict_proba(design(X[b]))[:, 1]
+    raw_b = m_lr.raw(X[b])
+    yb, wb = y[b], w[b]
+    half = np.arange(raw_b.size) % 2 == 0
+    p_iso = np.empty_like(raw_b)
+    for fit_h in (half, ~half):
+        iso = IsotonicRegression(y_min=0.0, y_max=1.0, out_of_bounds="clip")
+        if fit_h.sum() and (~fit_h).sum():
+            iso.fit(raw_b[fit_h], yb[fit_h], sample_weight=wb[fit_h])
+            p_iso[~fit_h] = iso.predict(raw_b[~fit_h])
+
+    def brier(p):
+        return float(np.average((p - yb) ** 2, weights=wb))
+
+    return {
+        "logistic_ece": ece(raw_b, yb, wb),
+        "logistic_isotonic_ece": ece(p_iso, yb, wb),
+        "boosting_ece": ece(p_gb, yb, wb),
+        "logistic_brier": brier(raw_b),
+        "logistic_isotonic_brier": brier(p_iso),
+        "boosting_brier": brier(p_gb),
+    }
