@@ -83,6 +83,8 @@ class SearchResult:
     masked: list[tuple[float, float, str]]
     features: dict[str, float] = field(default_factory=dict)
     distinguishing: dict[str, list[float]] = field(default_factory=dict)
+    #: The query's quality report (reflib.signal.quality findings as dicts); None for peak lists.
+    quality: list[dict[str, Any]] | None = None
 
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {
@@ -96,6 +98,8 @@ class SearchResult:
             "hits": [h.to_dict() for h in self.hits],
             "masked": [[round(lo, 1), round(hi, 1), why] for lo, hi, why in self.masked],
         }
+        if self.quality is not None:
+            d["query"]["quality"] = list(self.quality)
         if self.distinguishing:
             d["distinguishing"] = {
                 k: [round(v, 1) for v in vs] for k, vs in self.distinguishing.items()

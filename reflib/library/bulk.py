@@ -34,6 +34,7 @@ from reflib.library.entries import (
     AddResult,
     clean_name,
     consistency_warnings,
+    quality_warnings,
     structure_ids,
     to_peaks,
 )
@@ -177,7 +178,7 @@ def _prepare(lib: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = 
     check_storable(data, peaks, vector)
     smiles = item.get("smiles")
     structure = structure_ids(smiles) if smiles else None
-    warnings: list[str] = []
+    warnings: list[str] = quality_warnings(data, peaks, tokens)
     if smiles:
         warnings += consistency_warnings(
             data, peaks, smiles, tokens, strict=bool(item.get("strict", False))

@@ -38,6 +38,8 @@ from reflib.library.entries import (
     clean_name,
     consistency_warnings,
     data_range,
+    quality_report,
+    quality_warnings,
     structure_ids,
     to_peaks,
 )
@@ -146,6 +148,7 @@ class Library:
                     f"{name!r} is in the library with SMILES {existing['smiles']}, "
                     f"not {smiles}; use another name or fix the SMILES"
                 )
+        warnings += quality_warnings(data, peaks, tokens)
         if smiles:
             warnings += consistency_warnings(data, peaks, smiles, tokens, strict=strict)
         if check_similar and self.store.counts()["spectra"]:
@@ -291,13 +294,18 @@ class Library:
 
         parse_profile(weights)  # validate before any work
         user_tokens = prep_mod.parse_tokens(prep) if prep is not None else []
-        prepared = []
+        prepared, quality = [], []
         for qry in queries:
             tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
-            peaks = comparable_peaks(to_peaks(qry), tokens, self.encoding)
+            picked = to_peaks(qry)
+            quality.append(quality_report(qry, picked, tokens))
+            peaks = comparable_peaks(picked, tokens, self.encoding)
             prepared.append((qry.meta.source_file, peaks, data_range(qry), tokens))
         with self.store.read():  # index and the hits' bands from one snapshot of the file
-            return self._search_prepared(prepared, top=top, profile=weights)
+            results = self._search_prepared(prepared, top=top, profile=weights)
+        for res, q in zip(results, quality):
+            res.quality = q
+        return results
 
     def _search_prepared(self, prepared: list, *, top: int, profile: str | None) -> list:
         """Score and explain ``prepared`` queries: (source file, comparable peaks, covered

@@ -46,6 +46,26 @@ def to_peaks(data: Spectrum | PeakList) -> PeakList:
     raise ValidationError(f"expected a Spectrum or PeakList, got {type(data).__name__}")
 
 
+def quality_report(
+    data: Spectrum | PeakList, peaks: PeakList, tokens: list[str] | tuple[str, ...] = ()
+) -> list[dict[str, Any]] | None:
+    """The quality report (:func:`reflib.signal.quality.assess`) of a spectrum as dicts; None
+    for a peak list."""
+    if not isinstance(data, Spectrum):
+        return None
+    from reflib.signal.quality import assess, to_dicts
+
+    return to_dicts(assess(data, peaks, tokens))
+
+
+def quality_warnings(
+    data: Spectrum | PeakList, peaks: PeakList, tokens: list[str] | tuple[str, ...] = ()
+) -> list[str]:
+    """The warn and bad findings of the quality report as warning lines."""
+    found = quality_report(data, peaks, tokens) or []
+    return [f"quality ({q['check']}): {q['message']}" for q in found if q["severity"] != "info"]
+
+
 def data_range(data: Spectrum | PeakList) -> tuple[float | None, float | None]:
     """The wavenumber range (cm-1) a spectrum covers; (None, None) for a peak list."""
     if isinstance(data, Spectrum):
