@@ -168,9 +168,9 @@ def _prepare(lib: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = 
     role = normalise_role(item["role"]) if item.get("role") is not None else None
     prep = item.get("prep")
     tokens = prep_mod.parse_tokens(prep) if prep is not None else []
-    if peaks is None:
-        peaks = to_peaks(data)
     tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(data.meta.prep)]))
+    if peaks is None:
+        peaks = to_peaks(data, tokens)
     if len(peaks) == 0:
         raise ValidationError("no bands found in this spectrum; nothing to add")
     enc = lib.encoding

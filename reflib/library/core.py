@@ -22,6 +22,7 @@ from typing import Any
 import numpy as np
 
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
+from reflib.analysis.phase import gas_against_condensed, strict_verdict
 from reflib.analysis.search import (
     DEFAULT_RULE,
     Hit,
@@ -33,6 +34,7 @@ from reflib.analysis.search import (
 )
 from reflib.chem import prep as prep_mod
 from reflib.errors import ValidationError
+from reflib.library.crossphase import explain_args
 from reflib.library.entries import (
     AddResult,
     clean_name,
@@ -134,7 +136,7 @@ class Library:
         if not force:
             self._refuse_duplicate(data)
         if peaks is None:
-            peaks = to_peaks(data)
+            peaks = to_peaks(data, tokens)
         if len(peaks) == 0:
             raise ValidationError("no bands found in this spectrum; nothing to add")
         enc = self.encoding
@@ -297,7 +299,7 @@ class Library:
         prepared, quality = [], []
         for qry in queries:
             tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
-            picked = to_peaks(qry)
+            picked = to_peaks(qry, tokens)
             quality.append(quality_report(qry, picked, tokens))
             peaks = comparable_peaks(picked, tokens, self.encoding)
             prepared.append((qry.meta.source_file, peaks, data_range(qry), tokens))
@@ -332,6 +334,13 @@ class Library:
                     if idx.size
                     else np.zeros((0, len(members)))
                 )
+                if idx.size:  # references of the other phase (gas / condensed) scored again
+                    from reflib.library.crossphase import rescore
+
+                    queries = [prepared[i][1] for i in members]
+                    scores = rescore(
+                        self.store, enc, idx, scores, queries, list(tokens), qrange, profile
+                    )
                 self._explain_batch(prepared, members, vectors, scores, idx, top, profile, results)
         return results  # type: ignore[return-value]
 
@@ -402,7 +411,8 @@ class Library:
             g = group_of(i)
             ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
             w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile)
-            ex = explain(peaks, ref_peaks, grid, w)
+            qp, rp, w, tol = explain_args(peaks, ref_peaks, tokens, g.prep, grid, w)
+            ex = explain(qp, rp, grid, w, tolerance=tol)
             explanations.append((ex, ref_peaks, w))
             hits.append(
                 Hit(
@@ -431,6 +441,8 @@ class Library:
             "n_query_bands": float(len(peaks)),
         }
         verdict, reason = self.rule.decide(features)
+        if gas_against_condensed(tokens, hits[0].prep):
+            verdict, reason = strict_verdict(verdict, reason, features)
         distinguishing: dict[str, list[float]] = {}
         if verdict == "ambiguous" and len(hits) > 1 and features["margin"] < self.rule.min_margin:
             _, p1, w1 = explanations[0]

@@ -491,6 +491,13 @@ def _resolution(spectrum: Spectrum) -> Finding:
 
 def _range(spectrum: Spectrum) -> Finding:
     lo, hi = spectrum.range_cm1
+    ulo, uhi = usable_range(spectrum)
+    noisy = []
+    if ulo > lo:
+        noisy.append([_r(lo), _r(ulo)])
+    if uhi < hi:
+        noisy.append([_r(uhi), _r(hi)])
+    lo, hi = ulo, uhi
     missing = []
     if lo > USUAL_RANGE[0] + 50:
         missing.append([USUAL_RANGE[0], _r(lo)])
@@ -498,6 +505,8 @@ def _range(spectrum: Spectrum) -> Finding:
         missing.append([_r(hi), USUAL_RANGE[1]])
     short = lo > 700.0 or hi < 3200.0
     message = f"covers {hi:.0f}-{lo:.0f} cm-1"
+    if noisy:
+        message += " after cutting noisy end(s) " + ", ".join(f"{b:.0f}-{a:.0f}" for a, b in noisy)
     if missing:
         message += f" (the usual range is {USUAL_RANGE[1]:.0f}-{USUAL_RANGE[0]:.0f} cm-1)"
     if short:
@@ -509,8 +518,51 @@ def _range(spectrum: Spectrum) -> Finding:
         "range",
         "warn" if short else "info",
         message,
-        {"range_cm1": [_r(lo), _r(hi)], "missing_cm1": missing},
+        {"range_cm1": [_r(lo), _r(hi)], "missing_cm1": missing, "noisy_ends_cm1": noisy},
     )
+
+
+#: Width (cm-1) of the windows in which :func:`usable_range` measures the local noise, and how
+#: many times the median window's noise makes an end of the data unusable (a window or detector
+#: cutting off leaves noise, which a picker would list as bands). Common practice, no source.
+NOISE_WINDOW_CM1, NOISY_END_FACTOR = 50.0, 5.0
+
+
+def usable_range(spectrum: Spectrum) -> tuple[float, float]:
+    """The wavenumber range (cm-1) left after cutting noisy ends: runs of 50 cm-1 windows at
+    either end whose noise (of the absorbance where light gets through) is over five times the
+    median window's. The whole range when no end is noisy.
+
+    >>> x = np.arange(400.0, 4000.0, 1.0)
+    >>> y = np.exp(-0.5 * ((x - 1715.0) / 8.0) ** 2)
+    >>> y[x < 650] += np.random.default_rng(0).normal(0.0, 0.05, np.count_nonzero(x < 650))
+    >>> lo, hi = usable_range(Spectrum(x, y))
+    >>> 640 <= lo <= 700, hi
+    (True, 3999.0)
+    """
+    x, a = uniform_grid(spectrum.to_absorbance().x, spectrum.to_absorbance().y)
+    step = float(x[1] - x[0])
+    per = max(8, int(round(NOISE_WINDOW_CM1 / step)))
+    nwin = x.size // per
+    if nwin < 6:
+        return spectrum.range_cm1
+    # estimate_noise of each window at once: the MAD of its second differences
+    d2 = np.diff(a[: nwin * per].reshape(nwin, per), 2, axis=1)
+    dev = np.abs(d2 - np.median(d2, axis=1, keepdims=True))
+    local = _MAD_TO_SIGMA * np.median(dev, axis=1) / np.sqrt(6.0)
+    limit = NOISY_END_FACTOR * max(float(np.median(local)), 1e-12)
+    noisy = local > limit
+    first = 0
+    while first < nwin and noisy[first]:
+        first += 1
+    last = nwin
+    while last > first and noisy[last - 1]:
+        last -= 1
+    if first >= last or (first == 0 and last == nwin):
+        return spectrum.range_cm1
+    lo = float(x[first * per]) if first else spectrum.range_cm1[0]
+    hi = float(x[min(last * per, x.size) - 1]) if last < nwin else spectrum.range_cm1[1]
+    return lo, hi
 
 
 def assess(
@@ -562,4 +614,4 @@ def assess(
     return found
 
 
-__all__: Sequence[str] = ["Finding", "SEVERITIES", "assess", "to_dicts", "worst"]
+__all__: Sequence[str] = ["Finding", "SEVERITIES", "assess", "to_dicts", "usable_range", "worst"]
