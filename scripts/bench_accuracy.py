@@ -55,7 +55,7 @@ MULL_AND_SOLUTION = ("nujol", "chcl3", "ccl4", "ch2cl2", "cdcl3")
 #: Query preparations with a measurement fault (simlib.apply_fault), a film measured badly: label
 #: -> fault. The drifting %T spectra go through a %T text file and reflib's reader, which must
 #: read every one of them.
-FAULT_PREPS = {"film-t-drift": "t-drift", "film-fringes": "fringes"}
+FAULT_PREPS = {"t-drift": "t-drift", "fringes": "fringes"}
 QUERY_PREPS.update({label: ["film"] for label in FAULT_PREPS})
 
 #: Reference preparations and how often each is drawn.

@@ -52,7 +52,7 @@ def test_clean_spectrum_gets_no_warnings():
 
 
 def test_known_noise_gives_its_snr():
-    """Noise of standard deviation 0.02 under a strongest band of 1.0: snr 50 +- 10 %, warn
+    """Noise of standard deviation 0.025 under a strongest band of 1.0: snr 40 +- 10 %, warn
     below 50 (the issue's threshold); 0.005 gives 200 and no warning."""
     noisy = _by_check(assess(Spectrum(X, _sample() + _noise(0.025))))["noise"]
     assert noisy.figures["snr"] == pytest.approx(40.0, rel=0.1)
@@ -104,7 +104,7 @@ def test_transmittance_over_100_says_how_far_and_where():
 
 
 def test_negative_band_found_at_its_position():
-    """An over-subtracted solvent band: a dip of 0.1 A at 1215 cm-1."""
+    """An over-subtracted solvent band: a dip of 0.1 A at 1260 cm-1."""
     y = _sample() - _band(1260, 10, 0.1) + _noise(0.001)
     f = _by_check(assess(Spectrum(X, y)))["negative-bands"]
     assert f.figures["positions_cm1"][0] == pytest.approx(1260.0, abs=2.0)
