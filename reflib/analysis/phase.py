@@ -12,8 +12,8 @@ all. So a gas/condensed comparison
   gas-phase range holds the band, zero for most rows);
 * compares with a wider position tolerance (:data:`BROADENING_CM1` instead of the encoding's
   16 cm-1, :data:`MATCH_TOLERANCE_CM1` instead of 12 in the band-by-band explanation);
-* counts the X-H stretch region (:data:`XH_REGION`) with a weight of 0.3, on top of the weight a
-  phase change already gives the O-H/N-H region;
+* counts the O-H/N-H stretch region (:data:`XH_REGION`, 3100-3700 cm-1) with a weight of 0.3, on
+  top of the 0.3 any phase change already gives it;
 * is never called confident unless the bands say so clearly (:data:`STRICT_RULE`).
 
 These numbers are from knowledge of the trade (gas-phase shifts of a few to 40 cm-1 for polar
@@ -35,8 +35,9 @@ from reflib.spectrum import PeakList
 BROADENING_CM1 = 28.0
 #: Position tolerance (cm-1) of a band match in a gas/condensed explanation.
 MATCH_TOLERANCE_CM1 = 22.0
-#: X-H stretches (O-H, N-H, C-H): (lo, hi, weight) in cm-1.
-XH_REGION = (2700.0, 3700.0, 0.3)
+#: O-H and N-H stretches: (lo, hi, weight) in cm-1. C-H stretches (below 3100) keep their
+#: weight: they move little between phases, and a mull's own C-H bands are its mask's job.
+XH_REGION = (3100.0, 3700.0, 0.3)
 
 
 def is_gas(tokens: Sequence[str]) -> bool:

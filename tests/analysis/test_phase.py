@@ -35,7 +35,7 @@ def test_gas_against_condensed_needs_exactly_one_gas():
 def test_xh_region_down_weighted_and_wider_encoding():
     grid = DEFAULT_ENCODING.grid()
     w = phase.xh_weights(grid, np.ones_like(grid))
-    assert w[np.searchsorted(grid, 3000.0)] == 0.3 and w[np.searchsorted(grid, 1700.0)] == 1.0
+    assert w[np.searchsorted(grid, 3400.0)] == 0.3 and w[np.searchsorted(grid, 2950.0)] == 1.0
     assert phase.wide_encoding(DEFAULT_ENCODING).broadening > DEFAULT_ENCODING.broadening
 
 
