@@ -52,6 +52,11 @@ QUERY_PREPS: dict[str, list[str]] = {
     "cdcl3": ["cdcl3", "caf2"],
 }
 MULL_AND_SOLUTION = ("nujol", "chcl3", "ccl4", "ch2cl2", "cdcl3")
+#: Query preparations with a measurement fault (simlib.apply_fault), a film measured badly: label
+#: -> fault. The drifting %T spectra go through a %T text file and reflib's reader, which must
+#: read every one of them.
+FAULT_PREPS = {"t-drift": "t-drift", "fringes": "fringes"}
+QUERY_PREPS.update({label: ["film"] for label in FAULT_PREPS})
 
 #: Reference preparations and how often each is drawn.
 REF_PREPS = (["film"], ["neat"], ["atr"], ["kbr"])
@@ -160,6 +165,12 @@ def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool, cal
         for c, in_lib in [(c, True) for c in compounds] + [(c, False) for c in held]:
             rng = simlib.rng_for(seed, "query", label, c.key)
             spec = measured(c.peaks, tokens, rng)
+            if label in FAULT_PREPS:
+                spec = simlib.apply_fault(spec, FAULT_PREPS[label], rng)
+                if FAULT_PREPS[label] == "t-drift":  # through a file: it must not be refused
+                    from reflib.io.delimited import parse_delimited
+
+                    spec = parse_delimited(simlib.as_percent_t_text(spec), source="drift.csv")
             res = lib.search(spec, prep=tokens, top=5)
             names = [h.name for h in res.hits]
             row = {

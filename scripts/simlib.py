@@ -1030,3 +1030,33 @@ def apply_prep(
     y = _detector(y, rng)
     meta = replace(spec.meta, prep=list(toks))
     return Spectrum(x, y, "absorbance", meta)
+
+
+#: Measurement faults :func:`apply_fault` can add (invented, for benchmarks).
+FAULTS = ("t-drift", "fringes")
+
+
+def apply_fault(spectrum: Spectrum, fault: str, rng: np.random.Generator) -> Spectrum:
+    """A measured spectrum with one fault of real measurements added (invented sizes):
+
+    * ``t-drift``: a background weaker than the sample's lifts the transmittance baseline to
+      105-140 % (returned as a 0..1 transmittance above 1);
+    * ``fringes``: interference in a film or cell gap, a sinusoidal absorbance baseline of
+      0.005-0.03 every 20-200 cm-1.
+    """
+    if fault not in FAULTS:
+        raise ValueError(f"unknown fault {fault!r}; expected one of {FAULTS}")
+    a = spectrum.to_absorbance()
+    if fault == "fringes":
+        spacing = rng.uniform(20.0, 200.0)
+        y = a.y + rng.uniform(0.005, 0.03) * np.sin(2 * np.pi * a.x / spacing + rng.uniform(0, 6.3))
+        return Spectrum(a.x, y, "absorbance", a.meta)
+    t = np.power(10.0, -a.y) * rng.uniform(1.05, 1.4)
+    return Spectrum(a.x, t, "transmittance", a.meta)
+
+
+def as_percent_t_text(spectrum: Spectrum) -> str:
+    """The spectrum as a two-column %T text file, high to low wavenumber, as instruments export."""
+    t = spectrum.to_transmittance()
+    rows = [f"{x:.2f},{100.0 * y:.4f}" for x, y in zip(t.x[::-1], t.y[::-1])]
+    return "wavenumber (cm-1),%T\n" + "\n".join(rows) + "\n"

@@ -86,6 +86,8 @@ class SearchResult:
     #: probability (0..1) that the top hit is the query's compound, from the library's
     #: calibration (:mod:`reflib.analysis.calibration`); None while the fixed rule decides
     confidence: float | None = None
+    #: The query's quality report (reflib.signal.quality findings as dicts); None for peak lists.
+    quality: list[dict[str, Any]] | None = None
 
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {
@@ -100,6 +102,8 @@ class SearchResult:
             "hits": [h.to_dict() for h in self.hits],
             "masked": [[round(lo, 1), round(hi, 1), why] for lo, hi, why in self.masked],
         }
+        if self.quality is not None:
+            d["query"]["quality"] = list(self.quality)
         if self.distinguishing:
             d["distinguishing"] = {
                 k: [round(v, 1) for v in vs] for k, vs in self.distinguishing.items()

@@ -60,10 +60,13 @@ def peaks(
     from reflib.spectrum import Spectrum
 
     obj = read_spectrum(file, y_kind=y_kind)
+    quality = None
     if isinstance(obj, Spectrum):
         from reflib.signal.peaks import pick_peaks
+        from reflib.signal.quality import assess, to_dicts
 
         peak_list = pick_peaks(obj)
+        quality = to_dicts(assess(obj, peak_list))
     else:
         peak_list = obj
     if json_out:
@@ -78,6 +81,7 @@ def peaks(
         if isinstance(obj, Spectrum):
             out["range_cm1"] = list(obj.range_cm1)
             out["points"] = int(obj.x.size)
+            out["quality"] = quality
         _echo_json(out)
         return
     meta = peak_list.meta.to_dict()
@@ -97,6 +101,9 @@ def peaks(
         typer.echo(f"range: {lo:.0f}-{hi:.0f} cm-1, {obj.x.size} points, y: {obj.y_kind}")
     typer.echo(f"{len(peak_list)} bands")
     typer.echo(_peak_table(peak_list, assign=assign))
+    for q in quality or []:
+        if q["severity"] != "info":
+            typer.echo(f"warning ({q['check']}): {q['message']}")
 
 
 def _print_search(res, explain_top: int = 3) -> None:
@@ -107,6 +114,9 @@ def _print_search(res, explain_top: int = 3) -> None:
         f"query: {q['file'] or '-'}; preparation: {', '.join(q['prep']) or 'none given'}; "
         f"compared {lo:.0f}-{hi:.0f} cm-1"
     )
+    for qf in res.quality or []:
+        if qf["severity"] != "info":
+            typer.echo(f"warning ({qf['check']}): {qf['message']}")
     if not res.hits:
         typer.echo(f"verdict: {res.verdict} ({res.reason})")
         return

@@ -56,7 +56,10 @@ FRACTION_MAX, PERCENT_MIN = 2.0, 10.0
 #: no source.
 PEAK_TABLE_MAX_ROWS, PEAK_TABLE_SPACING = 100, 20.0
 
-#: Largest percent transmittance accepted (a little above 100 from noise and baseline drift).
+#: Highest point of a percent transmittance that the data alone may call percent without a
+#: header (a little above 100 from noise and baseline drift). Higher still is percent too when
+#: the header or --y-kind says transmittance, or when the data's shape says so (baseline near
+#: the top, bands dipping); the quality report then says how far above 100 % it went.
 MAX_PERCENT = 110.0
 
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
@@ -414,15 +417,18 @@ def _y_kind_from_data(y: np.ndarray, source: str | None) -> tuple[str, bool]:
     if rel >= 0.5 and asym <= -0.5:
         if lo >= -0.05 and hi <= FRACTION_MAX and med >= 0.4:
             return "transmittance", False
-        if lo >= -5 and PERCENT_MIN <= hi <= MAX_PERCENT and med >= 40:
-            return "transmittance", True
+    if rel >= 0.5 and lo >= -5 and PERCENT_MIN <= hi and med >= 40:
+        # absorbance cannot reach 10; with the baseline in the upper half and most points at
+        # 40 % or more, only percent transmittance fits, however far above 100 % it drifts
+        return "transmittance", True
     if lo >= -0.5 and hi <= 6.0 and (rel <= 0.05 or (rel <= 0.2 and asym >= 0.6)):
         return "absorbance", False
-    if hi > 6.0 and not (rel >= 0.5 and hi <= MAX_PERCENT):
+    if hi > 6.0:
         raise ReadError(
             f"y runs {lo:g}..{hi:g} with its median at {med:g}: neither absorbance (about 0-4) "
-            "nor transmittance (0..1 or 0..100 %) with a baseline near the top; reflib reads "
-            f"absorbance or transmittance only; if it is one of them, {hint}",
+            "nor a transmittance with its baseline near the top; reflib reads "
+            "absorbance or transmittance only; if it is percent transmittance, give "
+            "--y-kind transmittance",
             path=source,
         )
     raise ReadError(
@@ -438,11 +444,12 @@ def _transmittance_scale(y: np.ndarray, source: str | None) -> bool:
     hi = float(y.max())
     if hi <= FRACTION_MAX:
         return False
-    if PERCENT_MIN <= hi <= MAX_PERCENT:
-        return True
+    if PERCENT_MIN <= hi:
+        return True  # only percent reaches this high; a drift above 100 % is reported, not refused
     raise ReadError(
-        f"transmittance values reach {hi:g}; expected a 0..1 fraction (at most "
-        f"{FRACTION_MAX:g}) or percent ({PERCENT_MIN:g}..{MAX_PERCENT:g} at the highest point)",
+        f"transmittance values reach {hi:g}: too high for a 0..1 fraction (at most "
+        f"{FRACTION_MAX:g}), too low for percent (at least {PERCENT_MIN:g} at the highest "
+        "point); check the y column",
         path=source,
     )
 
@@ -534,6 +541,10 @@ def parse_delimited(text: str, *, source: str | None = None, y_kind: str | None 
     if percent:
         y = y / 100.0
         meta.extra["y_scale"] = "percent"
+    if kind == "transmittance" and float(y.max()) > 1.0:
+        from reflib.io.jcamp import over_100_note
+
+        meta.extra["transmittance_over_100"] = over_100_note(x, y)
     meta.extra["y_kind_from"] = origin
     try:
         return Spectrum(x, y, kind, meta)

@@ -45,16 +45,16 @@ AFFN_DIGITS = 7
 #: rounding error of a written ordinate is at most 0.5 / DIF_SCALE of the largest |y|.
 DIF_SCALE = 1.0e6
 
-#: Transmittance whose largest value is at most FRACTION_MAX is a 0..1 fraction; between
-#: PERCENT_MIN and PERCENT_MAX it is percent. Real fractions overshoot 1 a little (noise at
-#: an opaque band edge reaches 1.505 in sqzdupd1.jdx of R. J. Lancashire's test set), and a
-#: percent spectrum whose highest point is below 10 % is unusable anyway.
+#: Transmittance whose largest value is at most FRACTION_MAX is a 0..1 fraction; from
+#: PERCENT_MIN up it is percent, however far above 100 a drifting baseline takes it. Real
+#: fractions overshoot 1 a little (noise at an opaque band edge reaches 1.505 in sqzdupd1.jdx
+#: of R. J. Lancashire's test set), and a percent spectrum whose highest point is below 10 %
+#: is unusable anyway.
 FRACTION_MAX = 2.0
 #: The X of each XYDATA line must lie within this many point spacings (plus rounding) of
 #: FIRSTX + i*DELTAX. The published test files stay within 1.08 (sulphur hexafluoride.jdx).
 X_CHECK_SPACINGS = 1.5
 PERCENT_MIN = 10.0
-PERCENT_MAX = 150.0
 
 Readable = Spectrum | PeakList
 
@@ -721,25 +721,30 @@ def _transmittance_fraction(y: np.ndarray, rec: _Record, source: str | None) -> 
     top = float(np.max(y)) if y.size else 0.0
     if top <= FRACTION_MAX:
         return y
-    if PERCENT_MIN <= top <= PERCENT_MAX:
+    if top >= PERCENT_MIN:
+        # only percent can reach this high, however far the baseline drifts above 100 %: read
+        # as percent; the quality report says how far above 100 % it went
         return y / 100.0
-    if top < PERCENT_MIN:
-        raise ReadError(
-            f"transmittance values reach {top:g}: too high for a 0..1 fraction, too low for a "
-            "percent transmittance; cannot tell which the file means",
-            path=source,
-            line=rec.line,
-        )
     raise ReadError(
-        f"transmittance values reach {top:g}; expected a 0..1 fraction or 0..100 percent",
+        f"transmittance values reach {top:g}: too high for a 0..1 fraction, too low for a "
+        "percent transmittance; cannot tell which the file means (check YUNITS and YFACTOR)",
         path=source,
         line=rec.line,
     )
 
 
+def over_100_note(x: np.ndarray, t: np.ndarray) -> str:
+    """The note a reader keeps when a transmittance (0..1 fraction) rises above 1, e.g.
+    ``'reaches 112.1 %T at 3980 cm-1'``; :mod:`reflib.signal.quality` reports it."""
+    i = int(np.argmax(t))
+    return f"reaches {100.0 * float(t[i]):.1f} %T at {float(x[i]):.0f} cm-1"
+
+
 def _spectrum(
     obj_x: np.ndarray, y: np.ndarray, ykind: str, meta: Metadata, line: int, source: str | None
 ) -> Spectrum:
+    if ykind == "transmittance" and y.size and float(np.max(y)) > 1.0:
+        meta.extra["transmittance_over_100"] = over_100_note(obj_x, y)
     try:
         return Spectrum(obj_x, y, ykind, meta)
     except ValidationError as exc:

@@ -34,6 +34,7 @@ from reflib.library.entries import (
     AddResult,
     clean_name,
     consistency_warnings,
+    quality_warnings,
     structure_ids,
     to_peaks,
 )
@@ -168,9 +169,9 @@ def _prepare(lib: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = 
     role = normalise_role(item["role"]) if item.get("role") is not None else None
     prep = item.get("prep")
     tokens = prep_mod.parse_tokens(prep) if prep is not None else []
-    if peaks is None:
-        peaks = to_peaks(data)
     tokens = list(dict.fromkeys([*tokens, *prep_mod.parse_tokens(data.meta.prep)]))
+    if peaks is None:
+        peaks = to_peaks(data, tokens)
     if len(peaks) == 0:
         raise ValidationError("no bands found in this spectrum; nothing to add")
     enc = lib.encoding
@@ -178,7 +179,7 @@ def _prepare(lib: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = 
     check_storable(data, peaks, vector)
     smiles = item.get("smiles")
     structure = structure_ids(smiles) if smiles else None
-    warnings: list[str] = []
+    warnings: list[str] = quality_warnings(data, peaks, tokens)
     if smiles:
         warnings += consistency_warnings(
             data, peaks, smiles, tokens, strict=bool(item.get("strict", False))

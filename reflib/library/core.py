@@ -23,6 +23,7 @@ import numpy as np
 
 from reflib.analysis.calibration import MIN_COMPOUNDS, mask_share
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
+from reflib.analysis.phase import gas_against_condensed, strict_verdict
 from reflib.analysis.search import (
     DEFAULT_RULE,
     Hit,
@@ -35,11 +36,14 @@ from reflib.analysis.search import (
 from reflib.chem import prep as prep_mod
 from reflib.errors import ValidationError
 from reflib.library.calibrate import compound_count, load_model, stale
+from reflib.library.crossphase import explain_args
 from reflib.library.entries import (
     AddResult,
     clean_name,
     consistency_warnings,
     data_range,
+    quality_report,
+    quality_warnings,
     structure_ids,
     to_peaks,
 )
@@ -140,7 +144,7 @@ class Library:
         if not force:
             self._refuse_duplicate(data)
         if peaks is None:
-            peaks = to_peaks(data)
+            peaks = to_peaks(data, tokens)
         if len(peaks) == 0:
             raise ValidationError("no bands found in this spectrum; nothing to add")
         enc = self.encoding
@@ -154,6 +158,7 @@ class Library:
                     f"{name!r} is in the library with SMILES {existing['smiles']}, "
                     f"not {smiles}; use another name or fix the SMILES"
                 )
+        warnings += quality_warnings(data, peaks, tokens)
         if smiles:
             warnings += consistency_warnings(data, peaks, smiles, tokens, strict=strict)
         if check_similar and self.store.counts()["spectra"]:
@@ -310,15 +315,21 @@ class Library:
 
         parse_profile(weights)  # validate before any work
         user_tokens = prep_mod.parse_tokens(prep) if prep is not None else []
-        prepared = []
+        prepared, quality = [], []
         for qry in queries:
             tokens = list(dict.fromkeys([*user_tokens, *prep_mod.parse_tokens(qry.meta.prep)]))
-            peaks = comparable_peaks(to_peaks(qry), tokens, self.encoding)
+            picked = to_peaks(qry, tokens)
+            quality.append(quality_report(qry, picked, tokens))
+            peaks = comparable_peaks(picked, tokens, self.encoding)
             prepared.append((qry.meta.source_file, peaks, data_range(qry), tokens))
         with self.store.read():  # index and the hits' bands from one snapshot of the file
             if where is not None:
-                return restricted_search(self, prepared, where, top=top, profile=weights)
-            return self._search_prepared(prepared, top=top, profile=weights)
+                results = restricted_search(self, prepared, where, top=top, profile=weights)
+            else:
+                results = self._search_prepared(prepared, top=top, profile=weights)
+        for res, q in zip(results, quality):
+            res.quality = q
+        return results
 
     def _search_prepared(
         self, prepared: list, *, top: int, profile: str | None, rows: np.ndarray | None = None
@@ -347,6 +358,13 @@ class Library:
                     if idx.size
                     else np.zeros((0, len(members)))
                 )
+                if idx.size:  # references of the other phase (gas / condensed) scored again
+                    from reflib.library.crossphase import rescore
+
+                    queries = [prepared[i][1] for i in members]
+                    scores = rescore(
+                        self.store, enc, idx, scores, queries, list(tokens), qrange, profile
+                    )
                 if rows is not None:  # a filtered search: other references never rank
                     scores[~rows] = -np.inf
                 self._explain_batch(prepared, members, vectors, scores, idx, top, profile, results)
@@ -421,7 +439,8 @@ class Library:
             g = group_of(i)
             ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
             w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile)
-            ex = explain(peaks, ref_peaks, grid, w)
+            qp, rp, w, tol = explain_args(peaks, ref_peaks, tokens, g.prep, grid, w)
+            ex = explain(qp, rp, grid, w, tolerance=tol)
             explanations.append((ex, ref_peaks, w))
             hits.append(
                 Hit(
@@ -452,6 +471,8 @@ class Library:
         features["mask_share"] = mask_share(explanations[0][2])
         features["crowding"] = self._crowding(hits[0].spectrum_id)
         verdict, reason, confidence = self._verdict(features, idx.size)
+        if gas_against_condensed(tokens, hits[0].prep):
+            verdict, reason = strict_verdict(verdict, reason, features)
         distinguishing: dict[str, list[float]] = {}
         # calibrated: whenever the top two are close candidates (a wider margin than the rule's;
         # beyond it each hit's own missing and new bands already tell them apart)

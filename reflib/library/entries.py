@@ -35,15 +35,66 @@ class AddResult:
         }
 
 
-def to_peaks(data: Spectrum | PeakList) -> PeakList:
-    """The peak list of a spectrum (picked) or a peak list itself."""
+def to_peaks(data: Spectrum | PeakList, tokens: list[str] | tuple[str, ...] = ()) -> PeakList:
+    """The peak list of a spectrum (picked) or a peak list itself.
+
+    A spectrum finer than 2 cm-1 is first blurred to the 4 cm-1 reflib compares at
+    (:func:`reflib.signal.resolution.for_comparison`) and its noisy ends are cut
+    (:func:`usable_part`), so that fine and coarse spectra give comparable lists. (Rotational
+    contours are merged only when a gas is compared with a condensed phase, see
+    :mod:`reflib.analysis.phase`: between two gas spectra the contours tell homologues apart.)
+    ``tokens`` is accepted for the callers' symmetry and not used yet.
+    """
     if isinstance(data, PeakList):
         return data
     if isinstance(data, Spectrum):
         from reflib.signal.peaks import pick_peaks
+        from reflib.signal.resolution import for_comparison
 
-        return pick_peaks(data)
+        return pick_peaks(for_comparison(usable_part(data, tokens)))
     raise ValidationError(f"expected a Spectrum or PeakList, got {type(data).__name__}")
+
+
+def quality_report(
+    data: Spectrum | PeakList, peaks: PeakList, tokens: list[str] | tuple[str, ...] = ()
+) -> list[dict[str, Any]] | None:
+    """The quality report (:func:`reflib.signal.quality.assess`) of a spectrum as dicts; None
+    for a peak list."""
+    if not isinstance(data, Spectrum):
+        return None
+    from reflib.signal.quality import assess, to_dicts
+
+    return to_dicts(assess(data, peaks, tokens))
+
+
+def quality_warnings(
+    data: Spectrum | PeakList, peaks: PeakList, tokens: list[str] | tuple[str, ...] = ()
+) -> list[str]:
+    """The warn and bad findings of the quality report as warning lines."""
+    found = quality_report(data, peaks, tokens) or []
+    return [f"quality ({q['check']}): {q['message']}" for q in found if q["severity"] != "info"]
+
+
+def usable_part(data: Spectrum, tokens: list[str] | tuple[str, ...] = ()) -> Spectrum:
+    """The spectrum without noisy ends (:func:`reflib.signal.quality.usable_range`): a window or
+    detector cutting off leaves noise that the picker would list as bands. An end that the
+    preparation already masks (a window's cut-off, an opaque solvent region) is left to the
+    mask."""
+    from reflib.signal.quality import usable_range
+
+    lo, hi = usable_range(data)
+    if (lo, hi) == data.range_cm1:
+        return data
+    spoiled = prep_mod.merged_regions(list(tokens), air=False)
+    x0, x1 = data.range_cm1
+    if lo > x0 and any(a <= lo and b >= x0 for a, b, _ in spoiled):
+        lo = x0
+    if hi < x1 and any(a <= x1 and b >= hi for a, b, _ in spoiled):
+        hi = x1
+    if (lo, hi) == data.range_cm1:
+        return data
+    keep = (data.x >= lo) & (data.x <= hi)
+    return replace(data, x=data.x[keep], y=data.y[keep])
 
 
 def data_range(data: Spectrum | PeakList) -> tuple[float | None, float | None]:

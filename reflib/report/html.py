@@ -271,7 +271,7 @@ def html_report(
         "y": "y",
     }
     for key, value in provenance.items():
-        if key == "masked" or value in (None, [], ""):
+        if key in ("masked", "quality") or value in (None, [], ""):
             continue
         if key == "prep":
             value = ", ".join(value) or "none given"
@@ -295,6 +295,15 @@ def html_report(
     doc.append(tables)
     if notes:
         doc.append("<h2>Notes</h2><ul>" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
+    quality = getattr(result, "quality", None) or provenance.get("quality")
+    if quality:
+        doc.append("<h2>Quality of the query spectrum</h2>")
+        doc.append(
+            _table(
+                ["check", "severity", "finding and remedy"],
+                [(q["check"], q["severity"], q["message"]) for q in quality],
+            )
+        )
     doc.append("<h2>Masked or down-weighted regions</h2>")
     if masked:
         doc.append(

@@ -357,3 +357,28 @@ def test_peak_table_has_a_label_column_when_the_author_gave_labels():
     )
     with pytest.raises(ValidationError):
         write_peak_table(peaks, sep="|")
+
+
+@pytest.mark.parametrize("factor", [1.12, 1.5, 3.0])
+def test_percent_transmittance_drifting_above_100_is_read_with_a_note(factor):
+    """A background weaker than the sample's lifts the %T baseline to 112 % (issue 12: about 5 %
+    of measured-looking files), 150 % or 300 %: only percent reaches so high, so it is read as
+    percent, with and without a header, and the drift is noted for the quality report."""
+    x = np.arange(4000.0, 400.0, -2.0)
+    t = factor * 100 * np.power(10.0, -np.exp(-0.5 * ((x - 1715) / 6) ** 2))
+    rows = "\n".join(f"{a:g},{b:.3f}" for a, b in zip(x, t))
+    for text in (rows, "wavenumber,%T\n" + rows):
+        s = parse_delimited(text)
+        assert s.y_kind == "transmittance"
+        assert s.y.max() == pytest.approx(factor, rel=1e-3)
+        assert "transmittance_over_100" in s.meta.extra
+
+
+def test_values_too_high_for_absorbance_without_a_baseline_say_which_y_kind():
+    """Counts from 0 to 5000 with the median low: neither absorbance nor a %T shape; the message
+    names the option to give."""
+    x = np.arange(4000.0, 400.0, -2.0)
+    y = 5000 * np.exp(-0.5 * ((x - 2000) / 300) ** 2)
+    rows = "\n".join(f"{a:g},{b:.3f}" for a, b in zip(x, y))
+    with pytest.raises(ReadError, match="--y-kind transmittance"):
+        parse_delimited(rows)

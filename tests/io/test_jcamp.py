@@ -227,10 +227,18 @@ def test_percent_and_fraction_transmittance_by_data():
     assert pct.y_kind == "transmittance" and pct.meta.y_units == "% TRANSMITTANCE"
 
 
-@pytest.mark.parametrize("top", ["5", "400"])
-def test_transmittance_that_is_neither_fraction_nor_percent_is_refused(top):
+def test_transmittance_that_is_neither_fraction_nor_percent_is_refused():
     with pytest.raises(ReadError, match="transmittance values reach"):
-        parse_jcamp(xy(2, [f"1000 1 {top}"], yunits="TRANSMITTANCE"))
+        parse_jcamp(xy(2, ["1000 1 5"], yunits="TRANSMITTANCE"))
+
+
+@pytest.mark.parametrize("top", ["112.07", "150", "400"])
+def test_transmittance_far_above_100_is_percent_with_a_note(top):
+    """Only percent reaches above 10: a baseline drifting above 100 % is read as percent
+    and the drift is kept in the metadata for the quality report (issue 12)."""
+    spec = parse_jcamp(xy(3, [f"1000 50 {top} 20"], yunits="TRANSMITTANCE"))[0]
+    assert spec.y.max() == pytest.approx(float(top) / 100)
+    assert spec.meta.extra["transmittance_over_100"].startswith(f"reaches {float(top):.1f} %T")
 
 
 @pytest.mark.parametrize(
