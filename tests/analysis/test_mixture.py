@@ -134,7 +134,14 @@ def test_start_only_bound_holds_and_names_its_band(refs):
     start, _ = refs
     for share in (0.0, 0.05, 0.15):
         r = leftover.leftover(mix(share, rng=np.random.default_rng(6)), start)
-        assert r.share is None and r.share_interval is None and r.product is None
+        assert r.product is None
+        # issue 16: when detected, a share with its 95 % interval, which holds the true share
+        assert r.detected == (share > 0)
+        if r.detected:
+            lo, hi = r.share_interval
+            assert lo <= share <= hi and lo <= r.share <= hi
+        else:
+            assert r.share is None and r.share_interval is None
         assert r.upper_bound >= share - 0.005
         # the bound allows bands two day-to-day spreads weaker (factor exp(0.4), about 1.5)
         assert r.upper_bound < 1.5 * share + 0.04
