@@ -177,9 +177,9 @@ def leftover_series(
         sxx = float(np.sum(w * (x - xm) ** 2))
         if sxx > 0:
             slope = float(np.sum(w * (x - xm) * v) / sxx)
-            resid = v - (np.sum(w * v) / np.sum(w) + slope * (x - xm))
-            chi2 = float(np.sum(w * resid**2)) / max(len(points) - 2, 1)
-            se = float(np.sqrt(max(chi2, 1.0) / sxx))
+            # the error from the samples' own intervals: a reaction's share falls off as a curve
+            # (first order: exponentially), so the line's misfit is not scatter
+            se = float(np.sqrt(1.0 / sxx))
             res.slope, res.slope_error = slope, se
             if slope < -TREND_Z * se:
                 res.trend = "falling"

@@ -84,3 +84,12 @@ def test_falling_series_is_in_order_with_a_falling_trend_and_a_limit_point():
     assert len(docs) == len(shares) + 1 and docs[-1]["summary"] is True
     assert docs[-1]["x"] == [0.0, 1.0, 2.0, 3.0, 4.0] and docs[-1]["x_unit"] == "hours"
     assert res.below_limit_from in ("x3", "x4")
+
+
+def test_steady_share_is_flat_and_never_below_the_limit():
+    """The same 10 % in four aliquots: no trend, and no point where it fell below the limit."""
+    start = Spectrum(X, bands(KETONE), "absorbance", Metadata(title="ketone"))
+    items = [(f"c{k}", crude(0.1, 40 + k)) for k in range(4)]
+    res = series.leftover_series(items, lambda d: leftover.leftover(d, start))
+    assert res.ordered_by == "name" and res.trend == "flat"
+    assert res.below_limit_from is None and all(p.result.detected for p in res.points)
