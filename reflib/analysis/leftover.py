@@ -700,6 +700,7 @@ def _start_band_fit(
     base = [np.ones_like(t), -np.ones_like(t), t, -t]
     oth = [o[sl][m] for o in others]
     oth = [o for o in oth if o.size and float(o.max()) > 2.0 * noise]
+    oth += [c[sl][m] for c in _neighbour_columns(y, grid, win, noise)]
     shifts = np.arange(-START_MAX_SHIFT_CM1, START_MAX_SHIFT_CM1 + 0.1, 2.0) / GRID_STEP_CM1
     best = None
     for ds in shifts:
@@ -741,6 +742,49 @@ def _start_band_fit(
         else float("inf")
     )
     return a, sigma, peak, misfit, ds * GRID_STEP_CM1, max(ceiling, plain, 0.0)
+
+
+def _profile_fwhm(S: np.ndarray, grid: np.ndarray, pos: float) -> float:
+    """Full width (cm-1) at half height of the reference profile's band at ``pos``."""
+    i = int(np.clip(np.searchsorted(grid, pos), 0, grid.size - 1))
+    lo = max(i - 4, 0)
+    i = lo + int(np.argmax(S[lo : i + 5]))
+    half = 0.5 * S[i]
+    if half <= 0:
+        return 0.0
+    j, k = i, i
+    while j > 0 and S[j] > half:
+        j -= 1
+    while k < S.size - 1 and S[k] > half:
+        k += 1
+    return float(grid[k] - grid[j])
+
+
+def _neighbour_columns(
+    y: np.ndarray, grid: np.ndarray, win: _Window, noise: float
+) -> list[np.ndarray]:
+    """Gaussian columns for the sample's own bands beside a starting-material band: maxima of
+    the sample within two widths of the window but farther from the band than its half width
+    plus the largest shift, each as wide as the sample's band is at half height. Without the
+    product its bands are unknown; these let a neighbour's flank be told from the band itself."""
+    half = 0.5 * win.fwhm + START_MAX_SHIFT_CM1 + SMOOTH_CM1
+    reach = grid[win.sl][-1] - win.position + 2.0 * win.fwhm
+    cols = []
+    step = GRID_STEP_CM1
+    for i in range(2, y.size - 2):
+        d = grid[i] - win.position
+        if abs(d) <= half or abs(d) > reach or y[i] < 5.0 * noise:
+            continue
+        if not (y[i] >= y[i - 1] and y[i] >= y[i + 1] and y[i] > y[i - 2] and y[i] > y[i + 2]):
+            continue
+        # half width on the side away from the starting-material band
+        k, direction = i, (1 if d > 0 else -1)
+        while 0 < k < y.size - 1 and y[k] > 0.5 * y[i] and abs(k - i) * step < 60:
+            k += direction
+        fwhm = float(np.clip(2.0 * abs(k - i) * step, 8.0, 120.0))
+        sig = fwhm / 2.3548
+        cols.append(np.exp(-0.5 * ((grid - grid[i]) / sig) ** 2))
+    return cols
 
 
 def _start_bands(
@@ -786,7 +830,7 @@ def start_only_bands(
         a, sg, peak, misfit, ds, ceil = _start_band_fit(
             y, grid, S, list(others), win, usable, noise, corr_pts
         )
-        broad = fwhm > BROAD_FWHM_CM1
+        broad = max(fwhm, _profile_fwhm(S, grid, pos)) > BROAD_FWHM_CM1
         # a band the sample does not show has no shape to judge: it is absent, and its ceiling
         # (the sample leaves no room for it) is the strongest evidence there is
         shown = a >= START_SEEN_Z * sg and a * peak >= START_SEEN_Z * noise
@@ -813,8 +857,12 @@ def consistent_low_group(bands: list[_StartBand]) -> np.ndarray:
     a = np.array([b.amount for b in bands])
     s = np.array([b.sigma for b in bands])
     spread = float(np.exp(2 * BAND_HEIGHT_SPREAD))
-    upper = float(np.min([_ceiling(b) for b in bands])) * spread
     judged = np.array([not b.broad and b.shape_ok for b in bands])
+    if not judged.any():
+        return judged
+    lowest = float(np.min(np.maximum(a, 0.0)[judged] + 2.0 * s[judged]))
+    ceilings = np.array([_ceiling(b) for b in bands])
+    upper = min(lowest, float(np.min(ceilings[judged]))) * spread
     return judged & ((a - 2.0 * s) <= upper)
 
 
@@ -847,12 +895,12 @@ def _start_only(
         return LeftoverResult(info_s, None, False, None, None, ub_share, 1.0, [], notes)
     group = consistent_low_group(sb)
     am = np.array([b.amount for b in sb])
-    sg = np.array([b.sigma for b in sb])
-    if not group.any():
-        group = np.array([not b.broad for b in sb])
-    if not group.any():
-        group = np.ones(len(sb), bool)
+    sg = np.array([b.sigma if np.isfinite(b.sigma) else 1e6 for b in sb])
     ceil = np.array([_ceiling(b) for b in sb])
+    if not group.any():
+        # no judged band fits under the lowest ceiling: the amount is what that band allows
+        group = np.zeros(len(sb), bool)
+        group[int(np.argmin(ceil))] = True
     b_mean, b_noise, b_err = combine_bands(np.clip(am[group], 0.0, ceil[group]), sg[group])
     z = b_mean / b_noise if b_noise > 0 else 0.0
     seen = [
