@@ -897,6 +897,17 @@ def _start_only(
     am = np.array([b.amount for b in sb])
     sg = np.array([b.sigma if np.isfinite(b.sigma) else 1e6 for b in sb])
     ceil = np.array([_ceiling(b) for b in sb])
+    judgeable = [b for b in sb if not b.broad and b.shape_ok]
+    if not judgeable:
+        # issue 16, item 3: nothing can be seen for certain; say so and bound the share only
+        notes.append(
+            "no band of the starting material is clear of the sample's other bands (each is "
+            "broad or has another band of another shape on it): only an upper bound is given"
+        )
+        fin = np.array([b.ceiling for b in sb])
+        ub = float(min(1.0, float(np.min(fin)) * np.exp(2 * BAND_HEIGHT_SPREAD) * a_s / a_y))
+        bands = [DiagnosticBand(b.position, False, 0.0, 0.0, b.amount, b.sigma) for b in sb]
+        return LeftoverResult(info_s, None, False, None, None, ub, 1.0, bands, notes)
     if not group.any():
         # no judged band fits under the lowest ceiling: the amount is what that band allows
         group = np.zeros(len(sb), bool)

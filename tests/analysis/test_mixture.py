@@ -304,3 +304,17 @@ def test_demo_pure_products_show_no_starting_material(demo):
                 continue
             r = lookup.leftover_in_library(lib, spec, start, product)
             assert not r.detected, (start, product, rec["prep"], r.share)
+
+
+def test_start_only_says_when_no_band_is_clear():
+    """Issue 16, item 3: a starting material with only broad bands (hydrogen-bonded envelopes,
+    FWHM 100-300 cm-1; O-H and N-H stretches are that broad, from memory) cannot be told from a
+    sloping local baseline or from a product's bands: not detected even at 15 %, only an upper
+    bound that holds, and a note says why."""
+    broad = [(3350, 1.0, 300), (3200, 0.6, 200), (1600, 0.5, 100), (1100, 0.6, 120)]
+    start = spectrum(bands(broad), np.random.default_rng(30), 0.002)
+    a_s, a_p = band_area(broad), band_area(ALCOHOL)
+    y = 0.15 / a_s * bands(broad) + 0.85 / a_p * bands(ALCOHOL)
+    r = leftover.leftover(spectrum(0.8 * y / y.max(), np.random.default_rng(31), 0.002), start)
+    assert not r.detected and r.share is None and r.upper_bound >= 0.15 - 0.005
+    assert any("no band of the starting material is clear" in n for n in r.notes)
