@@ -875,9 +875,10 @@ def plot_leftover(
     head = f"Leftover starting material {sname}: {verdict}"
     if result.share is not None:
         lo_s, hi_s = result.share_interval or (None, None)
-        line2 = f"fitted share of the signal {pct(result.share)} (95 %: {pct(lo_s)} - {pct(hi_s)})"
+        what = "fitted share" if product is not None else "share from its own bands"
+        line2 = f"{what} of the signal {pct(result.share)} (95 %: {pct(lo_s)} - {pct(hi_s)})"
     else:
-        line2 = "no pure product given: share not fitted"
+        line2 = "share not fitted" + (" (no pure product given)" if product is None else "")
     if result.upper_bound is not None:
         line2 += f"; upper bound {pct(result.upper_bound)}"
     line2 += f"; detection limit about {pct(result.detection_limit)}"
