@@ -98,13 +98,8 @@ Z_SEEN = 3.0
 #: Significance of the combined amount of starting material needed to call it detected.
 #: Calibrated on scripts/bench_leftover.py (false alarms at 0 % against detection at 5 %).
 Z_DETECT = 5.0
-#: Start only: the upper bound allows the sample to dip this many noise units below zero.
+#: The upper bound allows the sample to dip this many noise units below zero.
 BOUND_NOISE_UNITS = 3.0
-#: Start only: detected when the bound's limiting band is this many noise units above zero and
-#: the bound (before the day-to-day allowance) is at least :data:`START_ONLY_MIN_SHARE`
-#: (calibrated on scripts/bench_leftover.py).
-START_ONLY_Z = 6.0
-START_ONLY_MIN_SHARE = 0.075
 
 Data = Spectrum | PeakList
 
@@ -354,6 +349,7 @@ def leftover(
     prep: Iterable[str] | str | None = (),
     start_info: dict[str, Any] | None = None,
     product_info: dict[str, Any] | None = None,
+    others: Iterable[Data] = (),
 ) -> LeftoverResult:
     """Is starting material left in ``sample``, and how much of the signal is it?
 
@@ -367,6 +363,9 @@ def leftover(
         and their own bands fitted out.
     start_info, product_info:
         What to print about the references (name, ids...); defaults to their titles.
+    others:
+        Spectra of reagents and solvents that may be in the sample; without the product they
+        are fitted, non-negatively, wherever their bands overlap a starting-material band.
 
     Returns
     -------
@@ -376,7 +375,9 @@ def leftover(
         combined amount is at least :data:`Z_DETECT` standard errors and :data:`MIN_SHARE`.
         Always: ``upper_bound``, the largest share of starting material that can be subtracted
         without driving the sample more than :data:`BOUND_NOISE_UNITS` noise units below zero
-        at any of its strong bands; without the product ``detected`` rests on that bound.
+        at any of its strong bands. Without the product see :func:`_start_only`: each strong
+        band judged by place, width and shape, the amount from the bands that agree with the
+        lowest ceiling, a share and interval when detected.
     """
     check_data("sample", sample)
     check_data("start", start)
@@ -425,9 +426,13 @@ def leftover(
     info_p = _describe(product, product_info) if product is not None else None
 
     if P is None:
+        extra_refs = []
+        for o in others:
+            check_data("reagent or solvent", o)
+            extra_refs.append(profile(o, grid).y)
         return _start_only(
-            info_s, y, S, grid, usable, noise, bound, limiting, bound_bands, ub_share,
-            sample_top, a_y, notes, raw_ub,
+            info_s, y, S, grid, usable, noise, ub_share, sample_top, a_y, notes,
+            start=start, a_s=a_s, corr_pts=corr_pts, others=extra_refs,
         )  # fmt: skip
 
     # --- product known: local fits ---
@@ -632,50 +637,330 @@ def _upper_bound(
     return b, pos, results
 
 
-def _start_only(
-    info_s,
-    y,
-    S,
-    grid,
-    usable,
-    noise,
-    bound,
-    limiting,
-    bound_bands,
-    ub_share,
-    top,
-    a_y,
-    notes,
-    raw_ub,
-) -> LeftoverResult:
-    notes.append("the pure product is not given: only an upper bound on the share is possible")
-    bands = []
-    for pos, b, h in sorted(bound_bands, key=lambda r: r[1]):
-        i = int(np.argmin(np.abs(grid - pos)))
-        level = float(b * S[max(i - 2, 0) : i + 3].max())
-        z = level / noise if noise > 0 else 0.0
-        seen = z >= START_ONLY_Z
-        bands.append(DiagnosticBand(pos, seen, h / top if top > 0 else 0.0, z, b, 0.0))
-        if len(bands) >= MAX_DIAGNOSTIC:
+#: Start only: a band counts when its relative intensity in the starting material is at least this.
+START_BAND_MIN_INTENSITY = 0.15
+#: Start only: at most this many of the starting material's bands are judged, strongest first.
+START_MAX_BANDS = 12
+#: Start only: shape allowance. A band measured on another day differs from the reference in width
+#: (about 10 %) and in its Lorentzian share, which leaves a residual of a few per cent of its
+#: height even at the right amount; the misfit is judged against noise plus this fraction of the
+#: fitted band's height (common practice, no source).
+SHAPE_ALLOWANCE = 0.12
+#: Start only: a band's shape fits when its residual is under this many allowed units.
+SHAPE_LIMIT = 2.5
+#: Start only: largest shift (cm-1) of one band between the reference and the sample. Each
+#: measurement may be a few cm-1 off (global) and each band a couple more (its own), so two
+#: measurements differ by up to about twice that (common practice, no source).
+START_MAX_SHIFT_CM1 = 12.0
+#: Start only: bands broader than this (cm-1 FWHM; hydrogen-bonded O-H and N-H envelopes) are
+#: judged by their ceiling only: a straight local baseline cannot be told from their flanks.
+BROAD_FWHM_CM1 = 60.0
+#: Start only: significance a single band needs to count as seen (fitted amount over its error).
+START_SEEN_Z = 3.0
+#: Start only: significance of the combined amount of the consistent bands needed to call the
+#: starting material detected (calibrated on scripts/bench_leftover.py, invented data).
+START_DETECT_Z = 6.0
+#: Start only: seen bands (right place, width and shape) needed among the consistent ones.
+START_MIN_SEEN = 1
+
+
+@dataclass
+class _StartBand:
+    position: float
+    rel: float  # relative intensity in the starting material
+    amount: float  # local amount of the starting material (1 = as in the reference)
+    sigma: float  # its standard error from noise
+    peak: float  # height of the reference band (profile units)
+    shape_ok: bool
+    misfit: float
+    shift: float  # cm-1
+    ceiling: float  # largest amount the sample leaves room for at the band's core
+    broad: bool  # too broad to judge by shape (a hydrogen-bonded envelope): ceiling only
+
+
+def _start_band_fit(
+    y: np.ndarray,
+    grid: np.ndarray,
+    S: np.ndarray,
+    others: list[np.ndarray],
+    win: _Window,
+    usable: np.ndarray,
+    noise: float,
+    corr_pts: float,
+) -> tuple[float, float, float, float, float, float]:
+    """One starting-material band against the sample, without the product: the sample in the
+    window as the shifted starting material, the interfering reagents/solvents/preparation bands
+    and a straight baseline. Returns (amount, its standard error, reference band height, misfit
+    in allowed units, shift cm-1, ceiling)."""
+    sl = win.sl
+    m = usable[sl]
+    yy = y[sl][m]
+    gx = grid[sl][m]
+    t = (gx - win.position) / max(float(np.ptp(gx)), 1.0)
+    base = [np.ones_like(t), -np.ones_like(t), t, -t]
+    oth = [o[sl][m] for o in others]
+    oth = [o for o in oth if o.size and float(o.max()) > 2.0 * noise]
+    oth += [c[sl][m] for c in _neighbour_columns(y, grid, win, noise)]
+    shifts = np.arange(-START_MAX_SHIFT_CM1, START_MAX_SHIFT_CM1 + 0.1, 2.0) / GRID_STEP_CM1
+    best = None
+    for ds in shifts:
+        sc = _shifted(S, float(ds))[sl][m]
+        X = np.column_stack([sc, *oth, *base])
+        coef, rnorm = nnls(X, yy)
+        if best is None or rnorm < best[0]:
+            best = (rnorm, coef, X, sc, float(ds))
+    rnorm, coef, X, sc, ds = best
+    # the error from the sample's noise alone: a misfit is judged as shape, not as noise
+    s2 = noise**2
+    Xf = np.column_stack([X[:, : 1 + len(oth)], X[:, -4], X[:, -2]])
+    try:
+        cov = np.linalg.inv(Xf.T @ Xf) * s2 * corr_pts
+        sigma = float(np.sqrt(max(cov[0, 0], 0.0)))
+    except np.linalg.LinAlgError:
+        sigma = float("inf")
+    peak = float(sc.max()) if sc.size else 0.0
+    a = float(coef[0])
+    core = sc > 0.3 * peak if peak > 0 else np.zeros(sc.size, bool)
+    resid = yy - X @ coef
+    rms = float(np.sqrt(np.mean(resid[core] ** 2))) if core.any() else 0.0
+    allowed = float(np.hypot(noise, SHAPE_ALLOWANCE * a * peak))
+    misfit = rms / allowed if allowed > 0 else 0.0
+    # the ceiling: the sample less the local baseline and interferents, which the starting
+    # material's band core may not exceed by more than BOUND_NOISE_UNITS noise units
+    rest = yy - X[:, 1:] @ coef[1:]
+    top = sc > 0.5 * peak if peak > 0 else core
+    ceiling = (
+        float(np.min((rest[top] + BOUND_NOISE_UNITS * noise) / sc[top]))
+        if top.any()
+        else float("inf")
+    )
+    # and the plain one (the sample itself, which a starting-material band cannot exceed): a
+    # local baseline drawn through a crowded window can dip under the sample's true level
+    plain = (
+        float(np.min((yy[top] + BOUND_NOISE_UNITS * noise) / sc[top]))
+        if top.any()
+        else float("inf")
+    )
+    return a, sigma, peak, misfit, ds * GRID_STEP_CM1, max(ceiling, plain, 0.0)
+
+
+def _profile_fwhm(S: np.ndarray, grid: np.ndarray, pos: float) -> float:
+    """Full width (cm-1) at half height of the reference profile's band at ``pos``."""
+    i = int(np.clip(np.searchsorted(grid, pos), 0, grid.size - 1))
+    lo = max(i - 4, 0)
+    i = lo + int(np.argmax(S[lo : i + 5]))
+    half = 0.5 * S[i]
+    if half <= 0:
+        return 0.0
+    j, k = i, i
+    while j > 0 and S[j] > half:
+        j -= 1
+    while k < S.size - 1 and S[k] > half:
+        k += 1
+    return float(grid[k] - grid[j])
+
+
+def _neighbour_columns(
+    y: np.ndarray, grid: np.ndarray, win: _Window, noise: float
+) -> list[np.ndarray]:
+    """Gaussian columns for the sample's own bands beside a starting-material band: maxima of
+    the sample within two widths of the window but farther from the band than its half width
+    plus the largest shift, each as wide as the sample's band is at half height. Without the
+    product its bands are unknown; these let a neighbour's flank be told from the band itself."""
+    half = 0.5 * win.fwhm + START_MAX_SHIFT_CM1 + SMOOTH_CM1
+    reach = grid[win.sl][-1] - win.position + 2.0 * win.fwhm
+    cols = []
+    step = GRID_STEP_CM1
+    for i in range(2, y.size - 2):
+        d = grid[i] - win.position
+        if abs(d) <= half or abs(d) > reach or y[i] < 5.0 * noise:
+            continue
+        if not (y[i] >= y[i - 1] and y[i] >= y[i + 1] and y[i] > y[i - 2] and y[i] > y[i + 2]):
+            continue
+        # half width on the side away from the starting-material band
+        k, direction = i, (1 if d > 0 else -1)
+        while 0 < k < y.size - 1 and y[k] > 0.5 * y[i] and abs(k - i) * step < 60:
+            k += direction
+        fwhm = float(np.clip(2.0 * abs(k - i) * step, 8.0, 120.0))
+        sig = fwhm / 2.3548
+        cols.append(np.exp(-0.5 * ((grid - grid[i]) / sig) ** 2))
+    return cols
+
+
+def _start_bands(
+    start: Data, grid: np.ndarray, S: np.ndarray, usable: np.ndarray
+) -> list[tuple[float, float, float]]:
+    """The starting material's strong bands ``(position, relative intensity, FWHM)`` in usable
+    places, strongest first, none within a band width of a stronger one."""
+    peaks = strong_bands(start, grid, Profile(S, usable, 0, [], ""))
+    order = np.argsort(-np.asarray(peaks.intensities, float))
+    chosen: list[tuple[float, float, float]] = []
+    for j in order:
+        pos, inten = float(peaks.positions[j]), float(peaks.intensities[j])
+        if inten < START_BAND_MIN_INTENSITY or not (grid[0] + 20 < pos < grid[-1] - 20):
+            continue
+        i = int(np.clip(np.searchsorted(grid, pos), 0, grid.size - 1))
+        if not usable[i]:
+            continue
+        w = float(peaks.widths[j]) if np.isfinite(peaks.widths[j]) else DEFAULT_BAND_FWHM
+        if any(abs(pos - q) < max(w, f) for q, _r, f in chosen):
+            continue
+        chosen.append((pos, inten, w))
+        if len(chosen) >= START_MAX_BANDS:
             break
-    if ub_share is None or limiting is None:
-        notes.append("no strong starting-material band lies in an unmasked region")
-        return LeftoverResult(info_s, None, False, None, None, None, 1.0, bands, notes)
-    s_peak = float(S[usable].max()) if usable.any() else float(S.max())
-    per_noise = (
-        START_ONLY_Z * noise / s_peak * (float(np.sum(S[usable])) * GRID_STEP_CM1) / a_y
-        if a_y > 0 and s_peak > 0
-        else 1.0
-    )
-    limit = max(START_ONLY_MIN_SHARE, per_noise)
-    lim_band = bands[0] if bands else None
-    detected = bool(lim_band is not None and lim_band.seen and raw_ub >= limit)
-    notes.append(f"the bound is set by the starting material's band at {limiting:.0f} cm-1")
-    if detected:
-        notes.append(
-            "every strong starting-material band shows in the sample: starting material is "
-            "probably left (without the pure product the bound may include product bands)"
+    return chosen
+
+
+def start_only_bands(
+    y: np.ndarray,
+    grid: np.ndarray,
+    S: np.ndarray,
+    start: Data,
+    usable: np.ndarray,
+    noise: float,
+    corr_pts: float,
+    others: list[np.ndarray] = (),  # type: ignore[assignment]
+) -> list[_StartBand]:
+    """Every strong starting-material band judged in the sample (see :func:`_start_band_fit`)."""
+    out = []
+    for pos, rel, fwhm in _start_bands(start, grid, S, usable):
+        win = _window(grid, pos, fwhm, usable)
+        if win is None:
+            continue
+        a, sg, peak, misfit, ds, ceil = _start_band_fit(
+            y, grid, S, list(others), win, usable, noise, corr_pts
         )
-    return LeftoverResult(
-        info_s, None, detected, None, None, ub_share, limit, bands, notes, 0.0, limiting
+        broad = max(fwhm, _profile_fwhm(S, grid, pos)) > BROAD_FWHM_CM1
+        # a band the sample does not show has no shape to judge: it is absent, and its ceiling
+        # (the sample leaves no room for it) is the strongest evidence there is
+        shown = a >= START_SEEN_Z * sg and a * peak >= START_SEEN_Z * noise
+        shape_ok = misfit <= SHAPE_LIMIT or not shown
+        out.append(_StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad))
+    return out
+
+
+def _ceiling(b: _StartBand) -> float:
+    """A band's ceiling counts only when the starting material's shape fits there: where another
+    band of another shape sits, the local fit says nothing about the starting material."""
+    return b.ceiling if b.shape_ok else float("inf")
+
+
+def consistent_low_group(bands: list[_StartBand]) -> np.ndarray:
+    """Mask of the bands that agree with the weakest evidence.
+
+    Leftover starting material adds its own amount to *every* one of its bands; the product (or
+    anything else) can only add more at some of them. So the amount is set by the bands showing
+    the least: the group whose amounts agree, within noise and the day-to-day change of band
+    heights, with the lowest upper limit any band allows. A band claiming far more (a product band
+    on top of it) is left out of the estimate; it only says that band is not clear.
+    """
+    a = np.array([b.amount for b in bands])
+    s = np.array([b.sigma for b in bands])
+    spread = float(np.exp(2 * BAND_HEIGHT_SPREAD))
+    judged = np.array([not b.broad and b.shape_ok for b in bands])
+    if not judged.any():
+        return judged
+    lowest = float(np.min(np.maximum(a, 0.0)[judged] + 2.0 * s[judged]))
+    ceilings = np.array([_ceiling(b) for b in bands])
+    upper = min(lowest, float(np.min(ceilings[judged]))) * spread
+    return judged & ((a - 2.0 * s) <= upper)
+
+
+def _start_only(
+    info_s: dict[str, Any],
+    y: np.ndarray,
+    S: np.ndarray,
+    grid: np.ndarray,
+    usable: np.ndarray,
+    noise: float,
+    ub_share: float | None,
+    top: float,
+    a_y: float,
+    notes: list[str],
+    *,
+    start: Data,
+    a_s: float,
+    corr_pts: float,
+    others: list[np.ndarray] = (),  # type: ignore[assignment]
+) -> LeftoverResult:
+    """Start only: every strong starting-material band fitted in the sample (shifted starting
+    material, interfering reagents/solvents, straight baseline); a band the sample shows must
+    have the starting material's place, width and shape; the amount is the combination of the
+    bands that agree with the lowest ceiling (:func:`consistent_low_group`), judged against the
+    sample's noise and the day-to-day spread of band heights (:func:`combine_bands`)."""
+    notes.append("the pure product is not given: the share rests on the starting material's bands")
+    sb = start_only_bands(y, grid, S, start, usable, noise, corr_pts, list(others))
+    if not sb or ub_share is None or a_y <= 0:
+        notes.append("no strong starting-material band lies in an unmasked region")
+        return LeftoverResult(info_s, None, False, None, None, ub_share, 1.0, [], notes)
+    group = consistent_low_group(sb)
+    am = np.array([b.amount for b in sb])
+    sg = np.array([b.sigma if np.isfinite(b.sigma) else 1e6 for b in sb])
+    ceil = np.array([_ceiling(b) for b in sb])
+    judgeable = [b for b in sb if not b.broad and b.shape_ok]
+    if not judgeable:
+        # issue 16, item 3: nothing can be seen for certain; say so and bound the share only
+        notes.append(
+            "no band of the starting material is clear of the sample's other bands (each is "
+            "broad or has another band of another shape on it): only an upper bound is given"
+        )
+        fin = np.array([b.ceiling for b in sb])
+        ub = float(min(1.0, float(np.min(fin)) * np.exp(2 * BAND_HEIGHT_SPREAD) * a_s / a_y))
+        bands = [DiagnosticBand(b.position, False, 0.0, 0.0, b.amount, b.sigma) for b in sb]
+        return LeftoverResult(info_s, None, False, None, None, ub, 1.0, bands, notes)
+    if not group.any():
+        # no judged band fits under the lowest ceiling: the amount is what that band allows
+        group = np.zeros(len(sb), bool)
+        group[int(np.argmin(ceil))] = True
+    b_mean, b_noise, b_err = combine_bands(np.clip(am[group], 0.0, ceil[group]), sg[group])
+    z = b_mean / b_noise if b_noise > 0 else 0.0
+    seen = [
+        b.amount >= START_SEEN_Z * b.sigma and b.amount * b.peak >= START_SEEN_Z * noise for b in sb
+    ]
+    ok_seen = [i for i in range(len(sb)) if group[i] and seen[i] and sb[i].shape_ok]
+    bad_shape = [i for i in range(len(sb)) if seen[i] and not sb[i].shape_ok]
+    to_share = a_s / a_y
+    share = float(np.clip(b_mean * to_share, 0.0, 1.0))
+    detected = bool(z >= START_DETECT_Z and len(ok_seen) >= START_MIN_SEEN and share >= MIN_SHARE)
+    # the detection limit: the share whose consistent bands would reach START_DETECT_Z
+    limit = float(max(MIN_SHARE, START_DETECT_Z * b_noise * to_share))
+    bands = [
+        DiagnosticBand(
+            b.position, bool(seen[i] and b.shape_ok), b.amount * b.peak / top if top > 0 else 0.0,
+            b.amount / b.sigma if b.sigma > 0 else 0.0, b.amount, b.sigma,
+        )
+        for i, b in enumerate(sb)
+    ]  # fmt: skip
+    low = [f"{sb[i].position:.0f}" for i in range(len(sb)) if group[i]]
+    high = [f"{sb[i].position:.0f}" for i in range(len(sb)) if not group[i]]
+    notes.append(
+        f"the amount rests on the band(s) at {', '.join(low)} cm-1, which agree with each other"
+        + (f"; {', '.join(high)} cm-1 show more (other compounds absorb there)" if high else "")
     )
+    for i in bad_shape:
+        notes.append(
+            f"the sample's band near {sb[i].position:.0f} cm-1 has another width or shape than "
+            "the starting material's: it is not the starting material's"
+        )
+    spread = float(np.exp(2 * BAND_HEIGHT_SPREAD))
+    if not np.isfinite(ceil).any():
+        ceil = np.array([b.ceiling for b in sb])
+    ub = float(min(1.0, float(np.min(ceil)) * spread * to_share))
+    lim_k = int(np.argmin(ceil))
+    limiting = sb[lim_k].position
+    if detected:
+        lo = max(b_mean - 1.96 * b_err, 0.0) * to_share
+        hi = (b_mean + 1.96 * b_err) * to_share
+        interval = (float(lo), float(min(hi, 1.0)))
+        ub = max(ub, interval[1])
+        notes.append(
+            f"starting material at {z:.1f} standard errors on {len(ok_seen)} band(s) of the right "
+            "place, width and shape (without the pure product a product band at the same place "
+            "cannot be ruled out)"
+        )
+        return LeftoverResult(
+            info_s, None, True, share, interval, ub, limit, bands, notes, z, limiting
+        )
+    if limiting is not None:
+        notes.append(f"the bound is set by the starting material's band at {limiting:.0f} cm-1")
+    return LeftoverResult(info_s, None, False, None, None, ub, limit, bands, notes, z, limiting)

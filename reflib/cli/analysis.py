@@ -6,12 +6,21 @@ reflib.analysis.mixture/compare.
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 from typing import Any
 
 import typer
 
-from reflib.cli.common import LibraryOpt, PlotYOpt, _check_pictures, _echo_json, _open, app
+from reflib.cli.common import (
+    LibraryOpt,
+    PlotYOpt,
+    _check_pictures,
+    _echo_json,
+    _open,
+    _usage,
+    app,
+)
 
 
 def _fmt_share(v: float | None) -> str:
@@ -106,12 +115,53 @@ PlotOpt = typer.Option(None, "--plot", help="Draw the comparison (.png, .svg or 
 ReportOpt = typer.Option(None, "--report", help="Write a self-contained HTML report.")
 
 
+def _crude_files(files: list[Path]) -> list[Path]:
+    """The files named, a folder standing for the (non-hidden) files in it."""
+    out: list[Path] = []
+    for f in files:
+        if f.is_dir():
+            out += sorted(p for p in f.iterdir() if p.is_file() and not p.name.startswith("."))
+        else:
+            out.append(f)
+    if not out:
+        raise _usage("no crude files given (the folder is empty)")
+    return out
+
+
+def print_series(res: Any) -> None:
+    """The plain-text form of a :class:`reflib.analysis.series.SeriesResult`."""
+    docs = res.to_dicts()
+    summary = docs[-1]
+    unit = "h" if summary["x_unit"] == "hours" else "#"
+    typer.echo(f"{unit:>8}  {'share':>8}  {'95 % interval':>17}  {'bound':>7}  file")
+    for x, d in zip(summary["x"], docs[:-1]):
+        iv = d["share_interval"]
+        ivs = "-" if iv is None else f"{_fmt_share(iv[0])} - {_fmt_share(iv[1])}"
+        share = _fmt_share(d["share"]) if d["detected"] else "n.d."
+        typer.echo(
+            f"{x:8.2f}  {share:>8}  {ivs:>17}  {_fmt_share(d['upper_bound']):>7}  {d['file']}"
+        )
+    slope = summary["slope"]
+    per = "per hour" if unit == "h" else "per sample"
+    trend = summary["trend"]
+    if slope is not None:
+        trend += f" ({100 * slope:+.2f} points {per}, +/- {100 * summary['slope_error']:.2f})"
+    typer.echo(f"trend: {trend}")
+    if summary["below_limit_from"]:
+        typer.echo(f"below the detection limit from {summary['below_limit_from']} on")
+    for n in summary["notes"]:
+        typer.echo(f"note: {n}")
+    typer.echo(docs[0]["caution"])
+
+
 PANEL = "Compare and quantify"
 
 
 @app.command(rich_help_panel=PANEL)
 def leftover(
-    file: Path = typer.Argument(..., help="The product (crude) spectrum or peak list."),
+    files: list[Path] = typer.Argument(
+        ..., help="The crude spectra (or peak lists), or a folder of them: one file, or a series."
+    ),
     start: str = typer.Option(..., "--start", help="Starting material: library name or id."),
     product: str = typer.Option(
         None, "--product", help="Pure product: library name or id (better estimate)."
@@ -123,12 +173,34 @@ def leftover(
     plot_y: str = PlotYOpt,
     library: Path = LibraryOpt,
 ) -> None:
-    """Is starting material left in a product, and how much of the signal is it?"""
+    """Is starting material left in a product, and how much of the signal is it? With several
+    files (or a folder): the share in each, in measuring order, and its trend."""
     from reflib.io import read_spectrum
     from reflib.library.lookup import leftover_in_library
 
     _check_pictures(plot, report, plot_y)
-    sample = read_spectrum(file)
+    paths = _crude_files(files)
+    if len(paths) > 1:
+        if report is not None:
+            raise _usage("--report is for one crude; for a series use --plot and --json")
+        from reflib.analysis.series import leftover_series
+
+        items = [(p.name, read_spectrum(p)) for p in paths]
+        with _open(library) as lib:
+            res = leftover_series(
+                items, lambda d: leftover_in_library(lib, d, start, product, prep=prep)
+            )
+        if plot:
+            from reflib.report.plots import plot_series
+
+            typer.echo(f"wrote {plot_series(res, plot)}", err=True)
+        if json_out:
+            for doc in res.to_dicts():
+                typer.echo(json.dumps(doc, ensure_ascii=False))
+        else:
+            print_series(res)
+        return
+    sample = read_spectrum(paths[0])
     with _open(library) as lib:
         res = leftover_in_library(lib, sample, start, product, prep=prep)
         if plot or report:

@@ -71,7 +71,31 @@ def leftover_in_library(
             raise ValidationError(
                 f"--start and --product name the same compound ({s_info['name']!r})"
             )
-    return leftover(sample, start, product, prep=tokens, start_info=s_info, product_info=p_info)
+    others = [] if product is not None else interferents(lib, s_info["compound_id"], tokens)
+    return leftover(
+        sample, start, product, prep=tokens, start_info=s_info, product_info=p_info,
+        others=others,
+    )  # fmt: skip
+
+
+#: Library roles whose compounds may sit in a crude beside the starting material and product.
+INTERFERENT_ROLES = ("reagent", "solvent")
+
+
+def interferents(lib: Any, exclude_id: int, prefer_prep: Iterable[str] = ()) -> list[Data]:
+    """Spectra of the library's reagents and solvents (roles :data:`INTERFERENT_ROLES`), for
+    the start-only leftover test to fit where their bands overlap the starting material's."""
+    out: list[Data] = []
+    for role in INTERFERENT_ROLES:
+        for c in lib.store.list_compounds(role=role):
+            if int(c["id"]) == int(exclude_id):
+                continue
+            try:
+                data, _info = library_entry(lib, int(c["id"]), prefer_prep=prefer_prep)
+            except ValidationError:
+                continue
+            out.append(data)
+    return out
 
 
 def mixture_in_library(

@@ -876,9 +876,10 @@ def plot_leftover(
     head = f"Leftover starting material {sname}: {verdict}"
     if result.share is not None:
         lo_s, hi_s = result.share_interval or (None, None)
-        line2 = f"fitted share of the signal {pct(result.share)} (95 %: {pct(lo_s)} - {pct(hi_s)})"
+        what = "fitted share" if product is not None else "share from its own bands"
+        line2 = f"{what} of the signal {pct(result.share)} (95 %: {pct(lo_s)} - {pct(hi_s)})"
     else:
-        line2 = "no pure product given: share not fitted"
+        line2 = "share not fitted" + (" (no pure product given)" if product is None else "")
     if result.upper_bound is not None:
         line2 += f"; upper bound {pct(result.upper_bound)}"
     line2 += f"; detection limit about {pct(result.detection_limit)}"
@@ -1064,3 +1065,49 @@ class _rc:
 
     def __exit__(self, *exc):
         return self._ctx.__exit__(*exc)
+
+
+def plot_series(result, out: str | Path | None = None) -> str | Path:
+    """Draw a leftover series (:class:`reflib.analysis.series.SeriesResult`): the share of the
+    signal against measuring time (hours) or order, with 95 % intervals; samples where the
+    starting material was not detected are drawn as open markers at their upper bound, with the
+    detection limit as a dotted line. ``out`` as in :func:`plot_search`."""
+    docs = result.to_dicts()
+    summary = docs[-1]
+    x = summary["x"]
+    with _rc():
+        plt = _plt()
+        fig, ax = plt.subplots(figsize=(7.0, 3.8))
+        colour = COLOURS["ref"][1]
+        for xi, d in zip(x, docs[:-1]):
+            if d["detected"] and d["share"] is not None:
+                lo, hi = d["share_interval"]
+                s = 100 * d["share"]
+                ax.errorbar(
+                    [xi], [s], yerr=[[s - 100 * lo], [100 * hi - s]], fmt="o", color=colour,
+                    capsize=3, ms=5,
+                )  # fmt: skip
+            elif d["upper_bound"] is not None:
+                ax.plot([xi], [100 * d["upper_bound"]], "v", mfc="none", color=COLOURS["muted"])
+        ax.plot(
+            x, [100 * d["detection_limit"] for d in docs[:-1]], ":", color=COLOURS["muted"],
+            label="detection limit",
+        )  # fmt: skip
+        ax.set_xlabel("hours since the first sample" if summary["x_unit"] == "hours" else "sample")
+        if summary["x_unit"] != "hours":
+            ax.set_xticks(x)
+            ax.set_xticklabels([_clip(f, 14) for f in summary["files"]], rotation=30, ha="right")
+        ax.set_ylabel("starting material, % of the signal")
+        ax.set_ylim(bottom=0)
+        trend = summary["trend"]
+        if summary["below_limit_from"]:
+            trend += f"; below the detection limit from {summary['below_limit_from']}"
+        name = docs[0]["start"].get("name") or "starting material"
+        ax.set_title(
+            f"Leftover {_clip(str(name), 40)}: {trend}\n"
+            "filled: detected (95 % interval); open: not detected, drawn at its upper bound",
+            fontsize=9,
+        )
+        ax.legend(loc="upper right", frameon=False, fontsize=8)
+        fig.tight_layout()
+        return _save(fig, out)

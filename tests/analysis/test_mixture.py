@@ -134,7 +134,14 @@ def test_start_only_bound_holds_and_names_its_band(refs):
     start, _ = refs
     for share in (0.0, 0.05, 0.15):
         r = leftover.leftover(mix(share, rng=np.random.default_rng(6)), start)
-        assert r.share is None and r.share_interval is None and r.product is None
+        assert r.product is None
+        # issue 16: when detected, a share with its 95 % interval, which holds the true share
+        assert r.detected == (share > 0)
+        if r.detected:
+            lo, hi = r.share_interval
+            assert lo <= share <= hi and lo <= r.share <= hi
+        else:
+            assert r.share is None and r.share_interval is None
         assert r.upper_bound >= share - 0.005
         # the bound allows bands two day-to-day spreads weaker (factor exp(0.4), about 1.5)
         assert r.upper_bound < 1.5 * share + 0.04
@@ -297,3 +304,17 @@ def test_demo_pure_products_show_no_starting_material(demo):
                 continue
             r = lookup.leftover_in_library(lib, spec, start, product)
             assert not r.detected, (start, product, rec["prep"], r.share)
+
+
+def test_start_only_says_when_no_band_is_clear():
+    """Issue 16, item 3: a starting material with only broad bands (hydrogen-bonded envelopes,
+    FWHM 100-300 cm-1; O-H and N-H stretches are that broad, from memory) cannot be told from a
+    sloping local baseline or from a product's bands: not detected even at 15 %, only an upper
+    bound that holds, and a note says why."""
+    broad = [(3350, 1.0, 300), (3200, 0.6, 200), (1600, 0.5, 100), (1100, 0.6, 120)]
+    start = spectrum(bands(broad), np.random.default_rng(30), 0.002)
+    a_s, a_p = band_area(broad), band_area(ALCOHOL)
+    y = 0.15 / a_s * bands(broad) + 0.85 / a_p * bands(ALCOHOL)
+    r = leftover.leftover(spectrum(0.8 * y / y.max(), np.random.default_rng(31), 0.002), start)
+    assert not r.detected and r.share is None and r.upper_bound >= 0.15 - 0.005
+    assert any("no band of the starting material is clear" in n for n in r.notes)

@@ -72,7 +72,9 @@ def test_leftover_json_with_and_without_product(setup):
     assert d["caution"] == CAUTION
     r = runner.invoke(app, [*args, str(crude), "--json"])
     d = json.loads(r.output)
-    assert d["product"] is None and d["share"] is None and d["upper_bound"] >= 0.09
+    assert d["product"] is None and d["upper_bound"] >= 0.09
+    # start only (issue 16): detected with a share whose interval holds the 10 % it was made with
+    assert d["detected"] is True and d["share_interval"][0] <= 0.1 <= d["share_interval"][1]
     r = runner.invoke(app, [*args, "--product", "2", str(pure), "--json"])
     assert json.loads(r.output)["detected"] is False
 
@@ -131,3 +133,34 @@ def test_user_mistakes_give_one_line_and_status_2(setup, tmp_path):
         assert r.returncode == 2, (args, r.stdout, r.stderr)
         lines = r.stderr.strip().splitlines()
         assert len(lines) == 1 and "Traceback" not in r.stderr, r.stderr
+
+
+def test_leftover_series_of_a_folder(setup, tmp_path):
+    """A reaction followed by aliquots (issue 16): a folder of crudes with falling shares (20, 10,
+    5, 0 % of the integrated absorbance, Beer-Lambert sums) gives one JSON document per file in
+    name order plus a summary with a falling trend, and the plot is written."""
+    lib, *_ = setup
+    folder = tmp_path / "aliquots"
+    folder.mkdir()
+    for k, share in enumerate((0.2, 0.1, 0.05, 0.0)):
+        y = share / area(KETONE) * absorbance(KETONE) + (1 - share) / area(ALCOHOL) * absorbance(
+            ALCOHOL
+        )
+        write(folder / f"t{k + 1}.csv", y * 0.8 / y.max(), 10 + k)
+    out = tmp_path / "series.png"
+    args = ["leftover", "-L", str(lib), str(folder), "--start", "pentan-2-one", "--json"]
+    r = runner.invoke(app, [*args, "--plot", str(out)])
+    assert r.exit_code == 0, r.output
+    docs = [json.loads(line) for line in r.stdout.splitlines() if line.startswith("{")]
+    assert [d["file"] for d in docs[:-1]] == ["t1.csv", "t2.csv", "t3.csv", "t4.csv"]
+    summary = docs[-1]
+    assert summary["summary"] is True and summary["ordered_by"] == "name"
+    assert summary["trend"] == "falling" and summary["below_limit_from"] == "t4.csv"
+    shares = [d["share"] for d in docs[:3]]
+    assert shares == sorted(shares, reverse=True)
+    assert out.exists() and out.stat().st_size > 1000
+    r = runner.invoke(app, ["leftover", "-L", str(lib), str(folder), "--start", "1"])
+    assert r.exit_code == 0 and "trend: falling" in r.output
+    r = _reflib(*args, "--report", str(tmp_path / "r.html"), cwd=tmp_path)
+    assert r.returncode == 2 and "--report is for one crude" in r.stderr
+    assert len(r.stderr.strip().splitlines()) == 1

@@ -146,7 +146,12 @@ def test_leftover_plot(demo, tmp_path):
     # without the product: the bound instead of a share
     res2 = leftover_in_library(lib, s, KETONE, None, prep="film")
     text2 = _svg_texts(report.plot_leftover(res2, s, start, None, prep="film"))
-    assert "upper bound" in text2 and "share not fitted" in text2
+    assert "upper bound" in text2
+    # issue 16: start only, a detected leftover gets a share from its own bands, else none
+    if res2.detected:
+        assert "share from its own bands" in text2 and f"{100 * res2.share:.1f} %" in text2
+    else:
+        assert "share not fitted" in text2
 
 
 def test_mixture_and_compare_plots(demo, tmp_path):
