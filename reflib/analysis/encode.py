@@ -165,6 +165,11 @@ def comparable_peaks(
     outside the regions the spectrum's own preparation spoils (a solvent or mull-oil band would
     otherwise set the scale), clipped to 1, and bands under ``enc.floor`` left out.
 
+    A saturated band (listed in ``meta.extra['saturated']`` by the picker) keeps its position
+    but not its height: its flat top says only that the band is at least as strong as any
+    other, so it counts as strong (1, the top of the scale) and does not set the scale of the
+    others (the strongest unsaturated band does).
+
     >>> pl = PeakList([1215.0, 1715.0, 1100.0], [1.0, 0.2, 0.005])
     >>> comparable_peaks(pl, ["chcl3"]).positions.tolist()   # 1215 is chloroform's own band
     [1215.0, 1715.0]
@@ -175,12 +180,15 @@ def comparable_peaks(
         return peaks
     w = prep_mod.weight_profile(peaks.positions, list(tokens), air=True)
     clear = w >= 0.5
-    scale = float(peaks.intensities[clear].max()) if np.any(clear) else 1.0
+    sat = saturated_mask(peaks)
+    basis = clear & ~sat if np.any(clear & ~sat) else clear
+    scale = float(peaks.intensities[basis].max()) if np.any(basis) else 1.0
     if scale <= 0:
         scale = 1.0
     inten = np.clip(peaks.intensities / scale, 0.0, 1.0)
+    inten[sat] = 1.0  # a flat top is at least as strong as any band; its height is unknown
     keep = inten >= enc.floor
-    if np.all(keep) and scale == 1.0:
+    if np.all(keep) and scale == 1.0 and not sat.any():
         return peaks
     return PeakList(
         peaks.positions[keep],
@@ -191,6 +199,22 @@ def comparable_peaks(
         peaks.shoulder[keep],
         meta=peaks.meta,
     )
+
+
+def saturated_mask(peaks: PeakList) -> np.ndarray:
+    """True for the bands the picker listed as saturated (``meta.extra['saturated']``, positions
+    in cm-1 to 0.1)."""
+    text = (peaks.meta.extra or {}).get("saturated") if peaks.meta is not None else None
+    out = np.zeros(len(peaks), bool)
+    if not text or len(peaks) == 0:
+        return out
+    try:
+        listed = np.array([float(v) for v in str(text).split(",") if v.strip()])
+    except ValueError:
+        return out
+    if listed.size:
+        out = np.min(np.abs(peaks.positions[:, None] - listed[None, :]), axis=1) <= 0.051
+    return out
 
 
 def encode_many(peak_lists: list[PeakList], enc: Encoding = DEFAULT_ENCODING) -> np.ndarray:
