@@ -166,9 +166,11 @@ def comparable_peaks(
     otherwise set the scale), clipped to 1, and bands under ``enc.floor`` left out.
 
     A saturated band (listed in ``meta.extra['saturated']`` by the picker) keeps its position
-    but not its height: its flat top says only that the band is at least as strong as any
-    other, so it counts as strong (1, the top of the scale) and does not set the scale of the
-    others (the strongest unsaturated band does).
+    but not its height: its flat top says only that the band is strong, so it counts as
+    strong (1, the top of the scale) whatever height its flat top reached. It still sets the
+    scale of the others when it is the strongest (a spectrum whose saturation is detected on
+    one day and not on another must keep the same relative intensities). Bands flagged
+    ``shoulder`` are left out.
 
     >>> pl = PeakList([1215.0, 1715.0, 1100.0], [1.0, 0.2, 0.005])
     >>> comparable_peaks(pl, ["chcl3"]).positions.tolist()   # 1215 is chloroform's own band
@@ -181,13 +183,15 @@ def comparable_peaks(
     w = prep_mod.weight_profile(peaks.positions, list(tokens), air=True)
     clear = w >= 0.5
     sat = saturated_mask(peaks)
-    basis = clear & ~sat if np.any(clear & ~sat) else clear
-    scale = float(peaks.intensities[basis].max()) if np.any(basis) else 1.0
+    scale = float(peaks.intensities[clear].max()) if np.any(clear) else 1.0
     if scale <= 0:
         scale = 1.0
     inten = np.clip(peaks.intensities / scale, 0.0, 1.0)
     inten[sat] = 1.0  # a flat top is at least as strong as any band; its height is unknown
-    keep = inten >= enc.floor
+    # A shoulder (a band with no maximum of its own, found in the second derivative) is shown
+    # to the chemist but not compared: its position and height lean on the neighbour's shape,
+    # and on scripts/bench_accuracy.py comparing shoulders cost about a point in solution.
+    keep = (inten >= enc.floor) & ~np.asarray(peaks.shoulder, bool)
     if np.all(keep) and scale == 1.0 and not sat.any():
         return peaks
     return PeakList(

@@ -510,7 +510,8 @@ def pick_peaks(
     runs = saturated_runs(a, from_transmittance=from_t, saturation_t=saturation_t)
     if from_t:
         _, t_grid = uniform_grid(spectrum.x, spectrum.y)
-        runs = _merge_runs(runs, floor_runs(t_grid))
+        if float(np.min(t_grid)) > saturation_t:  # a floor above the level: stray light
+            runs = _merge_runs(runs, floor_runs(t_grid))
     opaque = _is_opaque(runs, x, step, _opaque_ranges(spectrum.meta.prep))
     cut, holes = _cut_holes(a, runs[opaque], step)
     band_runs = runs[~opaque]
@@ -581,15 +582,17 @@ def pick_peaks(
     busy = near_cut.copy()
     for start, stop in band_runs:
         busy[max(0, start - margin) : stop + margin] = True
-    s_idx, s_frac, s_shoulder, s_fwhm = derivative_bands(
+    s_idx, s_frac, s_shoulder, s_fwhm, s_height = derivative_bands(
         ys, raw_noise, sigma_pts, step, idx, distance, busy, smooth_cm1=D2_SMOOTH_CM1, snr=D2_SNR
     )
-    s_keep = ys[s_idx] >= min_snr * noise[s_idx]
-    s_idx, s_frac, s_shoulder, s_fwhm = (
+    # Prominence against the local envelope, held to the same min_snr as any other band.
+    s_keep = s_height >= min_snr * noise[s_idx]
+    s_idx, s_frac, s_shoulder, s_fwhm, s_height = (
         s_idx[s_keep],
         s_frac[s_keep],
         s_shoulder[s_keep],
         s_fwhm[s_keep],
+        s_height[s_keep],
     )
     if idx.size + s_idx.size == 0:
         return empty
@@ -598,7 +601,7 @@ def pick_peaks(
     smooth_fwhm = sigma_pts * step * 2.0 * np.sqrt(2.0 * np.log(2.0))
     fwhm = np.sqrt(np.maximum(fwhm**2 - smooth_fwhm**2, 0.25 * fwhm**2))
     frac = np.concatenate([frac, s_frac])
-    heights = np.concatenate([heights, np.interp(s_frac, np.arange(x.size, dtype=float), ys)])
+    heights = np.concatenate([heights, s_height])
     fwhm = np.concatenate([fwhm, s_fwhm])
     saturated = np.concatenate([saturated, np.zeros(s_idx.size, bool)])
     shoulder = np.concatenate([np.zeros(idx.size, bool), s_shoulder])
@@ -670,7 +673,7 @@ def derivative_bands(
     *,
     smooth_cm1: float = D2_SMOOTH_CM1,
     snr: float = D2_SNR,
-) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Bands seen in the second derivative but not as maxima of the trace (indices in points).
 
     A band on the flank of a stronger one, or a shoulder with no maximum of its own, is a
@@ -683,9 +686,12 @@ def derivative_bands(
     other such bands (the stronger one kept), and outside ``busy`` (holes, flat tops).
     Returns indices, fractional positions, shoulder flags (True when the trace has no local
     maximum within ``distance`` points: a shoulder rather than a resolved band) and FWHM
-    estimates in cm-1 (from the width of the derivative's lobe).
+    estimates in cm-1 (from the width of the derivative's lobe) and heights above the local
+    envelope (``-y''`` times the lobe's half width squared, the height of a Gaussian of that
+    curvature; never more than the trace itself), which is what the band adds to its
+    neighbour's flank.
     """
-    empty = (np.zeros(0, np.intp), np.zeros(0), np.zeros(0, bool), np.zeros(0))
+    empty = (np.zeros(0, np.intp), np.zeros(0), np.zeros(0, bool), np.zeros(0), np.zeros(0))
     n = ys.size
     if n < 7:
         return empty
@@ -725,6 +731,7 @@ def derivative_bands(
     # Width: -y'' of a Gaussian of standard deviation s is positive for |x| < s, so the lobe's
     # half width is s of the twice-smoothed band; remove both smoothings in quadrature.
     fwhm = np.empty(cand.size)
+    height = np.empty(cand.size)
     blur2 = g**2 + sigma_pts**2
     for k, c in enumerate(cand.tolist()):  # one step per band
         i = c
@@ -736,7 +743,9 @@ def derivative_bands(
         half = 0.5 * (j - i + 1)
         s2 = max(half**2 - blur2, 0.25 * half**2)
         fwhm[k] = 2.0 * np.sqrt(2.0 * np.log(2.0) * s2) * step
-    return cand, frac, shoulder, fwhm
+        # Height above the local envelope: for a Gaussian, -y''(0) * s**2 is its height.
+        height[k] = min(float(ys[c]), float(d2[c]) * half**2)
+    return cand, frac, shoulder, fwhm, height
 
 
 def floor_runs(t: np.ndarray, *, floor_t: float = FLOOR_T, span_t: float = FLOOR_SPAN_T):
