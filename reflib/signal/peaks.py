@@ -22,10 +22,22 @@ than any later step (see the design notes). The steps, each a pure function of a
 
 Saturated bands become one band at the centre of the top, and their positions are listed in
 ``meta.extra['saturated']``: transmittance at or below ``saturation_t`` (absorbance at or above
-2 by default), an absorbance trace clipped to a run of identical values at its maximum, or a
-strong noisy plateau at the maximum (see :func:`saturated_runs` and :func:`flat_tops`).
-Shoulders are not detected: every ``shoulder`` flag is False (not attempted; a wrong shoulder
-flag would mislead more than a missing one).
+2 by default), a plateau near a transmittance floor above that level (stray light, a chart's
+floor: :func:`floor_runs`), an absorbance trace clipped to a run of identical values at its
+maximum, or a strong noisy plateau at the maximum (see :func:`saturated_runs` and
+:func:`flat_tops`).
+
+Opaque regions are holes, not bands: a saturated run that reaches an end of the data, is wider
+than :data:`OPAQUE_MIN_WIDTH_CM1`, or overlaps a region the spectrum's own preparation makes
+opaque (``meta.prep``: a solvent in its cell, a window's cut-off) is cut out with its walls
+before the baseline, the baseline is computed on each piece between holes (it never bridges
+one), no band is reported in or at the edge of a hole, and the cut ranges are listed in
+``meta.extra['holes']`` so that the comparison counts them as not covered.
+
+Bands the trace shows no maximum for, or only a shallow dip beside a stronger band, are found
+in the second derivative (:func:`derivative_bands`): their prominence is their height above
+the local envelope, held to the same ``min_snr``; those with no maximum of their own are
+flagged ``shoulder`` (their height is a lower bound).
 
 Chosen defaults and why (measured on the gas-phase spectra of the jcamp 1.3.2 distribution and on
 constructed bands; see the tests):
@@ -459,9 +471,9 @@ def pick_peaks(
     -------
     PeakList
         Positions (cm-1, sub-grid), relative heights (0..1), FWHM (cm-1), strength words,
-        broad flags; ``shoulder`` is always False. ``meta`` is a copy of the spectrum's, with
+        broad flags, shoulder flags. ``meta`` is a copy of the spectrum's, with
         ``meta.extra['saturated']`` listing the positions (cm-1, comma-separated) of flat-topped
-        bands when there are any.
+        bands and ``meta.extra['holes']`` the cut opaque ranges, when there are any.
 
     Example
     -------
