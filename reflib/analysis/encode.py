@@ -165,6 +165,13 @@ def comparable_peaks(
     outside the regions the spectrum's own preparation spoils (a solvent or mull-oil band would
     otherwise set the scale), clipped to 1, and bands under ``enc.floor`` left out.
 
+    A saturated band (listed in ``meta.extra['saturated']`` by the picker) keeps its position
+    but not its height: its flat top says only that the band is strong, so it counts as
+    strong (1, the top of the scale) whatever height its flat top reached. It still sets the
+    scale of the others when it is the strongest (a spectrum whose saturation is detected on
+    one day and not on another must keep the same relative intensities). Bands flagged
+    ``shoulder`` are left out.
+
     >>> pl = PeakList([1215.0, 1715.0, 1100.0], [1.0, 0.2, 0.005])
     >>> comparable_peaks(pl, ["chcl3"]).positions.tolist()   # 1215 is chloroform's own band
     [1215.0, 1715.0]
@@ -175,12 +182,17 @@ def comparable_peaks(
         return peaks
     w = prep_mod.weight_profile(peaks.positions, list(tokens), air=True)
     clear = w >= 0.5
+    sat = saturated_mask(peaks)
     scale = float(peaks.intensities[clear].max()) if np.any(clear) else 1.0
     if scale <= 0:
         scale = 1.0
     inten = np.clip(peaks.intensities / scale, 0.0, 1.0)
-    keep = inten >= enc.floor
-    if np.all(keep) and scale == 1.0:
+    inten[sat] = 1.0  # a flat top is at least as strong as any band; its height is unknown
+    # A shoulder (a band found in the second derivative, beside a stronger one) is shown to the
+    # chemist but not compared: its position and height lean on the neighbour's shape, and on
+    # scripts/bench_accuracy.py comparing them cost 0.3-1.5 points of top-1.
+    keep = (inten >= enc.floor) & ~np.asarray(peaks.shoulder, bool)
+    if np.all(keep) and scale == 1.0 and not sat.any():
         return peaks
     return PeakList(
         peaks.positions[keep],
@@ -191,6 +203,22 @@ def comparable_peaks(
         peaks.shoulder[keep],
         meta=peaks.meta,
     )
+
+
+def saturated_mask(peaks: PeakList) -> np.ndarray:
+    """True for the bands the picker listed as saturated (``meta.extra['saturated']``, positions
+    in cm-1 to 0.1)."""
+    text = (peaks.meta.extra or {}).get("saturated") if peaks.meta is not None else None
+    out = np.zeros(len(peaks), bool)
+    if not text or len(peaks) == 0:
+        return out
+    try:
+        listed = np.array([float(v) for v in str(text).split(",") if v.strip()])
+    except ValueError:
+        return out
+    if listed.size:
+        out = np.min(np.abs(peaks.positions[:, None] - listed[None, :]), axis=1) <= 0.051
+    return out
 
 
 def encode_many(peak_lists: list[PeakList], enc: Encoding = DEFAULT_ENCODING) -> np.ndarray:

@@ -122,11 +122,15 @@ def comparison_weights(
     query_range: tuple[float | None, float | None] = (None, None),
     ref_range: tuple[float | None, float | None] = (None, None),
     profile: str | None = None,
+    holes: tuple[tuple[float, float], ...] | list[tuple[float, float]] = (),
 ) -> np.ndarray:
     """The weight of every grid bin in comparing a query with a reference.
 
     The union of both preparations' spoiled regions (plus the air's CO2 and water), the range
-    both spectra cover, and the user's region profile, multiplied.
+    both spectra cover, and the user's region profile, multiplied. ``holes`` are ranges (cm-1)
+    the picker cut out of either spectrum (opaque regions and their walls,
+    ``meta.extra['holes']``): not covered, weight 0, so an erased region cannot count as
+    "band absent".
     """
     grid = enc.grid()
     tokens = list(dict.fromkeys([*query_prep, *ref_prep]))
@@ -137,7 +141,46 @@ def comparison_weights(
     lo = _max_none(query_range[0], ref_range[0])
     hi = _min_none(query_range[1], ref_range[1])
     w = w * coverage_mask(grid, lo, hi) * region_profile(grid, profile)
+    for h_lo, h_hi in holes:
+        w[(grid >= h_lo) & (grid <= h_hi)] = 0.0
     return w
+
+
+#: Transmission and ATR intensities are compared at this wavenumber (cm-1); see
+#: :func:`reflib.chem.prep.atr_correction`.
+ATR_REFERENCE_CM1 = 1000.0
+#: Strong ATR bands sit a few cm-1 below their transmission position (the refractive index
+#: changes across a strong band); a match between an ATR and a transmission spectrum is allowed
+#: this much more (cm-1). Common practice, no source.
+ATR_EXTRA_TOLERANCE = 5.0
+
+
+def atr_side(query_prep, ref_prep) -> str | None:
+    """``"query"`` or ``"ref"`` when exactly that one of the two spectra is ATR, else None."""
+
+    def is_atr(tokens) -> bool:
+        return any(
+            prep_mod.PREPARATIONS[t].kind == "reflection"
+            for t in tokens
+            if t in prep_mod.PREPARATIONS
+        )
+
+    q, r = is_atr(query_prep), is_atr(ref_prep)
+    if q == r:
+        return None
+    return "query" if q else "ref"
+
+
+def atr_factor(enc: Encoding) -> np.ndarray:
+    """Per-bin factor an ATR vector is multiplied by to compare with transmission.
+
+    The intensity correction is :func:`reflib.chem.prep.atr_correction` (``x / 1000``); a
+    vector holds tempered intensities, so the factor is the correction tempered the same way
+    (its square root for ``sqrt``, itself for ``linear``; ``log`` is treated as ``sqrt``, an
+    approximation).
+    """
+    f = prep_mod.atr_correction(enc.grid(), np.ones(enc.size), reference_cm1=ATR_REFERENCE_CM1)
+    return f if enc.transform == "linear" else np.sqrt(f)
 
 
 #: O-H and N-H stretches move and change shape between phases: hydrogen-bonded and broad in a
@@ -264,9 +307,16 @@ def score_index(
     query_prep: list[str],
     query_range: tuple[float | None, float | None],
     profile: str | None = None,
+    holes: tuple[tuple[float, float], ...] | list[tuple[float, float]] = (),
 ) -> np.ndarray:
     """Exact scores of one or more queries (m, bins) against every row of a
     :class:`reflib.library.index.Index`: one weight vector and one matrix product per group.
+
+    When exactly one side of a group's comparison is ATR, its intensities are corrected for the
+    penetration depth (:func:`atr_factor`): an ATR query is multiplied by the factor; against
+    ATR references the weights take the factor squared and the query is divided by it, which
+    is the same weighted cosine as correcting the stored references, without touching them.
+    ``holes`` are the query's cut ranges (see :func:`comparison_weights`).
 
     The weighted norm of a group's references depends only on the weight vector, so it is
     computed once per (group, weights) and kept on the index: after the first query of a
@@ -275,10 +325,20 @@ def score_index(
     """
     q = np.atleast_2d(np.asarray(q, dtype=np.float64))
     scores = np.zeros((index.size, q.shape[0]), dtype=np.float32)
+    factor = None
     for g in index.groups:
-        w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile)
+        w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile, holes)
+        qg = q
+        side = atr_side(query_prep, g.prep)
+        if side is not None:
+            factor = atr_factor(enc) if factor is None else factor
+            if side == "query":
+                qg = q * factor
+            else:
+                qg = q / factor
+                w = w * factor**2
         refs = index.matrix[g.start : g.stop]
-        score_block(q, refs, w, out=scores[g.start : g.stop], norms=_group_norms(index, g, w))
+        score_block(qg, refs, w, out=scores[g.start : g.stop], norms=_group_norms(index, g, w))
     return scores
 
 

@@ -29,6 +29,7 @@ from reflib.analysis.search import (
     Hit,
     SearchResult,
     VerdictRule,
+    atr_side,
     comparison_weights,
     distinguishing_bands,
     explain,
@@ -343,10 +344,10 @@ class Library:
         vectors = [encode(p[1], enc) for p in prepared]
         results: list[SearchResult | None] = [None] * len(prepared)
         batches: dict[tuple, list[int]] = {}
-        for i, (_, _, qrange, tokens) in enumerate(prepared):
-            key = (tuple(tokens), range_key(*qrange))
+        for i, (_, peaks, qrange, tokens) in enumerate(prepared):
+            key = (tuple(tokens), range_key(*qrange), _holes(peaks))
             batches.setdefault(key, []).append(i)
-        for (tokens, _), all_members in batches.items():
+        for (tokens, _, holes), all_members in batches.items():
             qrange = prepared[all_members[0]][2]
             # score QUERY_CHUNK queries at a time: the (references x queries) score matrix
             # stays small even for a large batch against a large library
@@ -354,7 +355,7 @@ class Library:
                 members = all_members[c0 : c0 + QUERY_CHUNK]
                 qmat = np.vstack([vectors[i] for i in members])
                 scores = (
-                    score_index(qmat, idx, enc, list(tokens), qrange, profile)
+                    score_index(qmat, idx, enc, list(tokens), qrange, profile, holes)
                     if idx.size
                     else np.zeros((0, len(members)))
                 )
@@ -438,9 +439,12 @@ class Library:
             cid = int(idx.compound_ids[i])
             g = group_of(i)
             ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
-            w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile)
+            w = comparison_weights(
+                enc, tokens, g.prep, qrange, (g.lo, g.hi), profile, _holes(peaks)
+            )
             qp, rp, w, tol = explain_args(peaks, ref_peaks, tokens, g.prep, grid, w)
-            ex = explain(qp, rp, grid, w, tolerance=tol)
+            atr = atr_side(tokens, g.prep) is not None
+            ex = explain(qp, rp, grid, w, tolerance=max(tol, _tolerance(atr)))
             explanations.append((ex, ref_peaks, w))
             hits.append(
                 Hit(
@@ -660,3 +664,18 @@ def _annotate(hits: list[Hit], query: PeakList) -> None:
             text = labels.get(pos)
             if text:
                 h.annotations[f"{pos:.1f}"] = text
+
+
+def _holes(peaks: PeakList) -> tuple[tuple[float, float], ...]:
+    """The ranges (cm-1) the picker cut out of a query (``meta.extra['holes']``)."""
+    from reflib.signal.peaks import parse_holes
+
+    return tuple(parse_holes(peaks.meta.extra.get("holes")))
+
+
+def _tolerance(atr_vs_transmission: bool) -> float:
+    """Band-match tolerance (cm-1): wider when exactly one side is ATR (its strong bands sit a
+    few cm-1 low)."""
+    from reflib.analysis.search import ATR_EXTRA_TOLERANCE, MATCH_TOLERANCE
+
+    return MATCH_TOLERANCE + (ATR_EXTRA_TOLERANCE if atr_vs_transmission else 0.0)

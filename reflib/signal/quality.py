@@ -217,7 +217,14 @@ def _saturation(tr: _Trace, peaks: PeakList | None) -> Finding | None:
     if not bands:
         return None
     bands.sort(reverse=True)
-    floor = [100.0 * float(np.min(tr.t[(tr.x >= lo) & (tr.x <= hi)])) for lo, hi in bands]
+    def lowest(lo: float, hi: float) -> float:
+        sel = (tr.x >= lo) & (tr.x <= hi)
+        if not sel.any():  # a band position between two points: the nearest point
+            sel = np.zeros(tr.x.size, dtype=bool)
+            sel[int(np.argmin(np.abs(tr.x - 0.5 * (lo + hi))))] = True
+        return 100.0 * float(np.min(tr.t[sel]))
+
+    floor = [lowest(lo, hi) for lo, hi in bands]
     where = ", ".join(f"{hi:.0f}-{lo:.0f}" if hi > lo else f"{lo:.0f}" for lo, hi in bands)
     return Finding(
         "saturation",
