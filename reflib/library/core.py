@@ -392,6 +392,10 @@ class Library:
             sid = int(idx.spectrum_ids[i])
             cid = int(idx.compound_ids[i])
             g = group_of(i)
+            if rank > top:  # a runner-up kept for the margin: explained only if needed below
+                explanations.append((None, sid, g))
+                hits.append(Hit(rank, names[cid][0], cid, sid, float(scores[i]), names[cid][1]))
+                continue
             ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
             w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile)
             ex = explain(peaks, ref_peaks, grid, w)
@@ -426,10 +430,12 @@ class Library:
         distinguishing: dict[str, list[float]] = {}
         if verdict == "ambiguous" and len(hits) > 1 and features["margin"] < self.rule.min_margin:
             _, p1, w1 = explanations[0]
-            _, p2, _ = explanations[1]
+            ex2, p2, g2 = explanations[1]
+            if ex2 is None:
+                p2 = comparable_peaks(self.store.peaks_of(p2), g2.prep, enc)
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
-        _annotate(hits, peaks)
+        _annotate(hits[:top], peaks)
         return SearchResult(
             query_file=None,
             query_prep=tokens,
@@ -525,7 +531,8 @@ def _annotate(hits: list[Hit], query: PeakList) -> None:
         return  # nothing to label: skip the table look-ups (about 20 ms a query)
     from reflib.chem import bands
 
-    labels = dict(zip(query.positions.tolist(), bands.describe_all(query)))
+    wanted = {pos for h in hits for pos in h.new}  # label only the bands a hit reports as new
+    labels = dict(zip(query.positions.tolist(), bands.describe_all(query, only=wanted)))
     for h in hits:
         for pos in h.new:
             text = labels.get(pos)

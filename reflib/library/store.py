@@ -479,7 +479,11 @@ class Store:
 
     @property
     def encoding(self) -> Encoding:
-        return Encoding.from_dict(json.loads(self.get_meta("encoding") or "{}"))
+        raw = self.get_meta("encoding") or "{}"
+        cached = getattr(self, "_encoding_cache", None)
+        if cached is None or cached[0] != raw:  # parsed once per stored text
+            cached = self._encoding_cache = (raw, Encoding.from_dict(json.loads(raw)))
+        return cached[1]
 
     # --- compounds -----------------------------------------------------------------------------
 
