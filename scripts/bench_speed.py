@@ -508,6 +508,83 @@ def summarise_importtime(text: str, top: int = 12) -> list[tuple[str, float]]:
     return sorted(per.items(), key=lambda kv: -kv[1])[:top]
 
 
+def write_peak_files(folder: Path, n: int, seed: int) -> list[PeakList]:
+    """``n`` typed peak lists, one text file each ('1715 (s), 1240 (m, br) cm-1')."""
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(seed)
+    lists = []
+    for i in range(n):
+        pl, prep = synthetic_peaks(rng)
+        texts = {f"{p.position:.1f}": p.words() for p in pl.descending()}
+        bands = ", ".join(f"{k} ({w})" for k, w in texts.items())  # each position once
+        (folder / f"p{i:06d}.txt").write_text(f"IR ({prep[0]}): {bands} cm-1\n")
+        lists.append(pl)
+    return lists
+
+
+def write_jcamp_files(folder: Path, n: int, seed: int) -> None:
+    """``n`` full invented absorbance spectra, 400-4000 cm-1 at 1 cm-1, as JCAMP-DX files:
+    Lorentzian bands at the positions of :func:`synthetic_peaks` plus a little noise."""
+    from reflib.io.jcamp import write_jcamp
+    from reflib.spectrum import Metadata, Spectrum
+
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(seed)
+    x = np.arange(400.0, 4000.5, 1.0)
+    for i in range(n):
+        pl, prep = synthetic_peaks(rng)
+        hw = np.where(pl.broad, np.nan_to_num(pl.widths, nan=8.0) / 2, rng.uniform(4, 8, len(pl)))
+        y = (
+            pl.intensities[:, None]
+            / (1 + ((x[None, :] - pl.positions[:, None]) / hw[:, None]) ** 2)
+        ).sum(0)
+        y = y / y.max() + rng.normal(0, 0.002, x.size)
+        meta = Metadata(title=f"invented-{i:05d}", prep=list(prep))
+        text = write_jcamp(Spectrum(x, y, "absorbance", meta=meta))
+        (folder / f"s{i:05d}.jdx").write_text(text)
+
+
+def import_times(work: Path, n_lists: int, n_spectra: int) -> dict:
+    """Whole-process ``reflib import`` of a folder of typed peak lists and of JCAMP-DX spectra,
+    against the in-process bulk path (:func:`add_bulk` of the same peak lists) in this run."""
+    from reflib.io import read_spectrum
+    from reflib.library import Library
+    from reflib.library.bulk import add_bulk
+
+    py = [sys.executable, "-m", "reflib.cli"]
+    out: dict = {"n_lists": n_lists, "n_spectra": n_spectra}
+    lists_dir = work / "import-lists"
+    write_peak_files(lists_dir, n_lists, seed=31)
+    lib = work / "import-lists.sqlite"
+    wall(py + ["init", str(lib)])
+    out["cli_lists_s"] = wall(py + ["import", "-L", str(lib), str(lists_dir)])
+    out["cli_lists_rerun_s"] = wall(py + ["import", "-L", str(lib), str(lists_dir)])
+    env1 = {**os.environ, "REFLIB_WORKERS": "1"}
+    lib1 = work / "import-lists-1.sqlite"
+    wall(py + ["init", str(lib1)])
+    t = time.perf_counter()
+    subprocess.run(
+        py + ["import", "-L", str(lib1), str(lists_dir)], env=env1, check=True, capture_output=True
+    )
+    out["cli_lists_1worker_s"] = time.perf_counter() - t
+    files = sorted(lists_dir.iterdir())
+    items = [{"data": read_spectrum(f), "name": f.stem} for f in files]
+    with Library.create(work / "import-baseline.sqlite") as blib:
+        t = time.perf_counter()
+        add_bulk(blib, items)
+        out["bulk_lists_s"] = time.perf_counter() - t
+    del items
+    spectra_dir = work / "import-jcamp"
+    write_jcamp_files(spectra_dir, n_spectra, seed=32)
+    slib = work / "import-jcamp.sqlite"
+    wall(py + ["init", str(slib)])
+    out["cli_spectra_s"] = wall(py + ["import", "-L", str(slib), str(spectra_dir)])
+    out["spectra_mb"] = sum(f.stat().st_size for f in spectra_dir.iterdir()) / 2**20
+    for d in (lists_dir, spectra_dir):
+        shutil.rmtree(d, ignore_errors=True)
+    return out
+
+
 def bulk_profile(work: Path, n: int) -> str:
     from reflib.library import Library
     from reflib.library.bulk import add_bulk

@@ -614,6 +614,11 @@ class Store:
         cols = [d[0] for d in cur.description]
         return [dict(zip(cols, r)) for r in cur.fetchall()]
 
+    def known_hashes(self) -> frozenset[str]:
+        """The SHA-256 of every stored file (to skip files already in the library)."""
+        rows = self.conn.execute("SELECT sha256 FROM spectra WHERE sha256 IS NOT NULL")
+        return frozenset(r[0] for r in rows)
+
     def peaks_of(self, spectrum_id: int) -> PeakList:
         rows = self.conn.execute(
             "SELECT position, intensity, width, strength, broad, shoulder FROM peaks "
