@@ -132,6 +132,26 @@ def comparison_weights(
     ``meta.extra['holes']``): not covered, weight 0, so an erased region cannot count as
     "band absent".
     """
+    key = (enc, tuple(query_prep), tuple(ref_prep), tuple(query_range), tuple(ref_range), profile)
+    w = _WEIGHTS.get(key)
+    if w is None:
+        w = _comparison_weights(enc, query_prep, ref_prep, query_range, ref_range, profile)
+        if len(_WEIGHTS) >= NORM_CACHE_SIZE:
+            _WEIGHTS.pop(next(iter(_WEIGHTS)))
+        _WEIGHTS[key] = w
+    w = w.copy()
+    if len(holes):
+        grid = enc.grid()
+        for h_lo, h_hi in holes:
+            w[(grid >= h_lo) & (grid <= h_hi)] = 0.0
+    return w
+
+
+#: Weight vectors already computed, by their arguments (a few per preparation in use).
+_WEIGHTS: dict[tuple, np.ndarray] = {}
+
+
+def _comparison_weights(enc, query_prep, ref_prep, query_range, ref_range, profile) -> np.ndarray:
     grid = enc.grid()
     tokens = list(dict.fromkeys([*query_prep, *ref_prep]))
     w = prep_mod.weight_profile(grid, tokens, air=True)
@@ -140,10 +160,7 @@ def comparison_weights(
         w = np.where((grid >= lo_h) & (grid <= hi_h), w * w_h, w)
     lo = _max_none(query_range[0], ref_range[0])
     hi = _min_none(query_range[1], ref_range[1])
-    w = w * coverage_mask(grid, lo, hi) * region_profile(grid, profile)
-    for h_lo, h_hi in holes:
-        w[(grid >= h_lo) & (grid <= h_hi)] = 0.0
-    return w
+    return w * coverage_mask(grid, lo, hi) * region_profile(grid, profile)
 
 
 #: Transmission and ATR intensities are compared at this wavenumber (cm-1); see
@@ -368,10 +385,23 @@ def match_bands(
     qw = np.where(query.broad & np.isfinite(query.widths), query.widths / 2, 0.0)
     rw = np.where(ref.broad & np.isfinite(ref.widths), ref.widths / 2, 0.0)
     tol = np.maximum(tolerance, np.maximum(qw[:, None], rw[None, :]))
-    big = 1e6
-    cost = np.where(d <= tol, d, big)
-    rows, cols = linear_sum_assignment(cost)
-    return [(int(i), int(j)) for i, j in zip(rows, cols) if cost[i, j] < big]
+    ok = d <= tol
+    # A band with exactly one partner in reach, whose partner has no other, is a pair in every
+    # best pairing: taken as it is. Only the bands left (several partners in reach) go to the
+    # assignment solver; bands with none cannot pair.
+    row_deg, col_deg = ok.sum(1), ok.sum(0)
+    single = ok & (row_deg[:, None] == 1) & (col_deg[None, :] == 1)
+    qi, rj = np.nonzero(single)
+    pairs = list(zip(qi.tolist(), rj.tolist()))
+    rest_q = np.flatnonzero((row_deg > 0) & ~single.any(1))
+    rest_r = np.flatnonzero((col_deg > 0) & ~single.any(0))
+    if rest_q.size and rest_r.size:
+        big = 1e6
+        sub = np.where(ok[np.ix_(rest_q, rest_r)], d[np.ix_(rest_q, rest_r)], big)
+        rows, cols = linear_sum_assignment(sub)
+        pairs += [(int(rest_q[i]), int(rest_r[j])) for i, j in zip(rows, cols) if sub[i, j] < big]
+        pairs.sort()
+    return pairs
 
 
 @dataclass

@@ -302,14 +302,11 @@ def candidates(
         broad = width > BROAD_WIDTH_CM1
     wanted = None if groups is None else set(groups)
     prep_set = set(prep)
-    seen = None if support is None else _tokens_seen(tuple(float(x) for x in support), phase)
-    best: dict[str, Assignment] = {}
-    for row in table():
+    seen = None if support is None else _tokens_seen(tuple(map(float, support)), phase)
+    best: dict[str, tuple] = {}  # label: (score, row, lo, hi); Assignments made for the top
+    for row, lo, hi in _rows_near(position_cm1, phase, min_score):
         if wanted is not None and (row.kind == "artefact" or not wanted.intersection(row.groups)):
             continue
-        if not row.in_phase(phase):
-            continue
-        lo, hi = row.range_for(phase)
         score = _position_score(position_cm1, lo, hi)
         if score < min_score:
             continue
@@ -322,10 +319,10 @@ def candidates(
         if score < min_score:
             continue
         current = best.get(row.label)
-        if current is None or score > current.score:
-            best[row.label] = Assignment(row.id, row.group, row.label, score, lo, hi, row.kind)
-    ranked = sorted(best.values(), key=lambda a: (-a.score, a.id))
-    return ranked[:top]
+        if current is None or score > current[0]:
+            best[row.label] = (score, row, lo, hi)
+    ranked = sorted(best.values(), key=lambda b: (-b[0], b[1].id))[:top]
+    return [Assignment(r.id, r.group, r.label, sc, lo, hi, r.kind) for sc, r, lo, hi in ranked]
 
 
 #: Weight of corroboration: a band whose group has all its other expected bands present keeps its
@@ -334,15 +331,65 @@ def candidates(
 CORROBORATION_WEIGHT = 0.15
 
 
+@lru_cache(maxsize=1024)
+def _other_tokens(group: str, expect: str) -> frozenset[tuple[str, str]]:
+    """(group, expect token) pairs of the expected bands of ``group`` other than ``expect``."""
+    return frozenset(
+        (g, r.expect)
+        for r in table()
+        if r.expect and r.kind != "artefact"
+        for g in r.groups
+        if g == group and r.expect != expect
+    )
+
+
+@lru_cache(maxsize=4)
+def _position_index(phase: str) -> tuple[tuple[GroupFrequency, ...], Any, Any]:
+    """The table rows usable in ``phase`` (table order) with their ranges as two arrays."""
+    import numpy as np
+
+    rows = tuple(r for r in table() if r.in_phase(phase))
+    ranges = np.array([r.range_for(phase) for r in rows], dtype=np.float64).reshape(-1, 2)
+    return rows, ranges[:, 0], ranges[:, 1]
+
+
+def _rows_near(x: float, phase: str, min_score: float) -> list[tuple[GroupFrequency, float, float]]:
+    """(row, lo, hi) of the rows of ``phase`` whose position score at ``x`` can reach
+    ``min_score``, in table order, with the row's range for ``phase``.
+
+    Inside its range a row scores at least 0.65; outside it 0.65 exp(-d^2 / 2 tol^2)
+    (:func:`_position_score`), which is below ``min_score`` beyond
+    d = tol sqrt(2 ln(0.65 / min_score)). Only the rows within that reach (plus a margin of
+    1 cm-1 against rounding) are returned; every other factor of a candidate's score is at
+    most 1, so the rows left out could not have been kept.
+    """
+    rows, lo, hi = _position_index(phase)
+    if min_score <= 0.0:
+        return list(zip(rows, lo.tolist(), hi.tolist()))
+    reach = 1.0
+    if min_score < 0.65:
+        reach += position_tolerance(x) * math.sqrt(2.0 * math.log(0.65 / min_score))
+    import numpy as np
+
+    near = np.flatnonzero((lo - reach <= x) & (x <= hi + reach)).tolist()
+    return [
+        (rows[i], lo_i, hi_i) for i, lo_i, hi_i in zip(near, lo[near].tolist(), hi[near].tolist())
+    ]
+
+
 @lru_cache(maxsize=64)
 def _tokens_seen(positions: tuple[float, ...], phase: str) -> frozenset[tuple[str, str]]:
     """(group, expect token) pairs with at least one band of ``positions`` in range."""
+    import numpy as np
+
+    rows, lo, hi = _position_index(phase)
+    x = np.asarray(positions, dtype=np.float64)
+    tol = 5.0 + 0.006 * x  # position_tolerance, element by element
+    hit = ((lo[:, None] - tol[None, :] <= x[None, :]) & (x[None, :] <= hi[:, None] + tol)).any(1)
     out = set()
-    for row in table():
-        if not row.expect or not row.in_phase(phase):
-            continue
-        lo, hi = row.range_for(phase)
-        if any(lo - position_tolerance(x) <= x <= hi + position_tolerance(x) for x in positions):
+    for i in np.flatnonzero(hit).tolist():
+        row = rows[i]
+        if row.expect:
             out.update((g, row.expect) for g in row.groups)
     return frozenset(out)
 
@@ -353,14 +400,15 @@ def corroboration(row: GroupFrequency, seen: frozenset[tuple[str, str]]) -> floa
     ``seen`` holds the (group, token) pairs present in the spectrum. Artefact rows and groups
     with no other expected band get the neutral middle value.
     """
-    others = {
-        (g, r.expect)
-        for r in table()
-        if r.expect and r.kind != "artefact"
-        for g in r.groups
-        if g == row.group and r.expect != row.expect
-    }
-    fraction = 0.5 if row.kind == "artefact" or not others else len(others & seen) / len(others)
+    return _corroboration(row.group, row.expect, row.kind == "artefact", seen)
+
+
+@lru_cache(maxsize=4096)
+def _corroboration(
+    group: str, expect: str, artefact: bool, seen: frozenset[tuple[str, str]]
+) -> float:
+    others = _other_tokens(group, expect)
+    fraction = 0.5 if artefact or not others else len(others & seen) / len(others)
     return 1.0 - CORROBORATION_WEIGHT * (1.0 - fraction)
 
 
@@ -435,14 +483,28 @@ def _short_text(found: list[Assignment]) -> str:
     return " ".join(f"{a.short}?" for a in found if a.score >= 0.5 * best)
 
 
-def describe_all(peaks: PeakList, *, top: int = 2) -> list[str]:
+def describe_all(
+    peaks: PeakList, *, top: int = 2, only: Iterable[float] | None = None
+) -> list[str]:
     """:func:`describe` for every band of ``peaks`` (ascending order), with the phase and
     preparation of the list's metadata and the other bands as corroboration (:func:`assign`).
+
+    With ``only`` (band positions), the bands elsewhere get an empty text without being looked
+    up; the texts of the others are the same as without ``only``.
 
     >>> describe_all(PeakList([1240.0, 1745.0], [0.9, 1.0]))[1]
     'ester C=O? cyclopentanone C=O?'
     """
-    return [_short_text(found) for found in assign(peaks, top=top)]
+    if only is None:
+        return [_short_text(found) for found in assign(peaks, top=top)]
+    wanted = set(only)
+    phase = phase_of(peaks)
+    prep = list(peaks.meta.prep)
+    support = [float(x) for x in peaks.positions]
+    return [
+        _short_text(_peak_candidates(p, top, phase, prep, support)) if p.position in wanted else ""
+        for p in peaks
+    ]
 
 
 def top_groups(

@@ -19,7 +19,6 @@ library and nothing of its own chunk.
 from __future__ import annotations
 
 import json
-import os
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from itertools import islice
@@ -111,11 +110,12 @@ def add_bulk(
     holds at least :data:`PARALLEL_MIN` spectra; 1 picks in this process).
     Returns one :class:`~reflib.library.AddResult` per item, in order.
     """
+    from reflib.library import workers as workers_mod
+
     if chunk_size < 1:
         raise ValidationError(f"chunk_size must be at least 1, got {chunk_size}")
     if workers is not None and workers < 1:
         raise ValidationError(f"workers must be at least 1, got {workers}")
-    n_workers = workers if workers is not None else (os.cpu_count() or 1)
     results: list[AddResult] = []
     it = iter(items)
     done = 0
@@ -128,11 +128,10 @@ def add_bulk(
                 if isinstance(item, dict) and isinstance(item.get("data"), Spectrum)
             ]
             picked: dict[int, PeakList] = {}
-            if n_workers > 1 and len(spectra) >= PARALLEL_MIN:
-                if pool is None:
-                    from concurrent.futures import ProcessPoolExecutor
-
-                    pool = ProcessPoolExecutor(max_workers=n_workers)
+            n_workers = workers_mod.worker_count(workers, len(spectra), PARALLEL_MIN)
+            if n_workers > 1:
+                if pool is None:  # falls back to this process where children cannot start
+                    pool = workers_mod.start_pool(n_workers)
                 found = pool.map(to_peaks, [chunk[i]["data"] for i in spectra], chunksize=16)
                 picked = dict(zip(spectra, found))
             results += _add_chunk(lib, chunk, done, picked)
@@ -154,8 +153,9 @@ def _chunks(it: Iterator[dict[str, Any]], n: int) -> Iterator[list[dict[str, Any
         yield chunk
 
 
-def _prepare(lib: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = None) -> _Prepared:
-    """Everything :meth:`Library.add` computes before it writes, for one item."""
+def _prepare(enc: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = None) -> _Prepared:
+    """Everything :meth:`Library.add` computes before it writes, for one item, with the
+    library's encoding ``enc`` (no library needed: this runs in import workers too)."""
     if not isinstance(item, dict) or "data" not in item:
         raise ValidationError(f"item {pos}: expected a dict with 'data' and 'name'")
     unknown = set(item) - _KEYWORDS
@@ -174,7 +174,6 @@ def _prepare(lib: Any, item: dict[str, Any], pos: int, peaks: PeakList | None = 
         peaks = to_peaks(data, tokens)
     if len(peaks) == 0:
         raise ValidationError("no bands found in this spectrum; nothing to add")
-    enc = lib.encoding
     vector = encode(comparable_peaks(peaks, tokens, enc), enc)
     check_storable(data, peaks, vector)
     smiles = item.get("smiles")
@@ -194,11 +193,17 @@ def _add_chunk(
     picked: dict[int, PeakList] | None = None,
 ) -> list[AddResult]:
     prepared = []
+    enc = lib.encoding
     for i, item in enumerate(chunk):
         try:
-            prepared.append(_prepare(lib, item, offset + i, (picked or {}).get(i)))
+            prepared.append(_prepare(enc, item, offset + i, (picked or {}).get(i)))
         except ReflibError as exc:
             raise type(exc)(f"item {offset + i}: {exc}") from None
+    return write_prepared(lib, prepared)
+
+
+def write_prepared(lib: Any, prepared: list[_Prepared]) -> list[AddResult]:
+    """Write prepared items in one transaction: all of them or, on an error, none."""
     store = lib.store
     conn = store.conn
     enc_key = lib.encoding.key()

@@ -438,6 +438,10 @@ class Library:
             sid = int(idx.spectrum_ids[i])
             cid = int(idx.compound_ids[i])
             g = group_of(i)
+            if rank > top:  # a runner-up kept for the margin: explained only if needed below
+                explanations.append((None, sid, g))
+                hits.append(Hit(rank, names[cid][0], cid, sid, float(scores[i]), names[cid][1]))
+                continue
             ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
             w = comparison_weights(
                 enc, tokens, g.prep, qrange, (g.lo, g.hi), profile, _holes(peaks)
@@ -485,10 +489,12 @@ class Library:
         )
         if verdict == "ambiguous" and len(hits) > 1 and near:
             _, p1, w1 = explanations[0]
-            _, p2, _ = explanations[1]
+            ex2, p2, g2 = explanations[1]
+            if ex2 is None:
+                p2 = comparable_peaks(self.store.peaks_of(p2), g2.prep, enc)
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
-        _annotate(hits, peaks)
+        _annotate(hits[:top], peaks)
         return SearchResult(
             query_file=None,
             query_prep=tokens,

@@ -1,4 +1,4 @@
-"""Bulk import: a manifest CSV or a folder of spectra, one transaction per file.
+"""Bulk import: a manifest CSV or a folder of spectra, written in chunked transactions.
 
 A manifest has the columns ``file,name,prep,smiles,role,notebook,operator,note`` (only ``file``
 is required; paths are relative to the manifest). A folder import takes every file in it (not
@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import csv
 import hashlib
+import re
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -115,22 +116,54 @@ def _sha256(path: Path) -> str | None:
         return None
 
 
-#: Files read and peak-picked ahead, in worker processes, while earlier ones are written.
+#: Fewer files than this are read in this process (starting workers would not pay).
 READ_AHEAD = 32
+#: Files written per transaction: a killed import loses at most the chunk in flight.
+IMPORT_CHUNK = 256
+#: ... and a chunk is written after at most this many seconds (slow files: full spectra).
+CHUNK_SECONDS = 0.5
+
+# What each worker needs, set once per worker by _worker_init: the library's encoding, the
+# hashes of the files already in the library, and whether --force was given.
+_STATE: dict = {}
 
 
-def load_file(path: Path):
-    """Read one file and pick its bands (runs in a worker process): (data, peaks) or an error."""
+def _worker_init(encoding: dict, known: frozenset[str], force: bool) -> None:
+    from reflib.analysis.encode import Encoding
+
+    _STATE.update(encoding=Encoding.from_dict(encoding), known=known, force=force)
+
+
+def prepare_file(task: tuple[int, ImportEntry]):
+    """Read, pick and encode one file (runs in a worker process).
+
+    Returns ``("skipped", None)`` for a file already in the library, ``("ok", prepared)``
+    (what :func:`reflib.library.bulk.write_prepared` writes) or ``("error", (class, message,
+    path, line))``: exceptions cross the process boundary as that tuple, as pickling would drop
+    the keyword-only path and line.
+    """
     from reflib.io import read_spectrum
-    from reflib.library.entries import to_peaks
+    from reflib.library.bulk import _prepare
 
+    pos, e = task
+    if not _STATE["force"] and _sha256(e.file) in _STATE["known"]:
+        return "skipped", None
     try:
-        data = read_spectrum(path)
-        return data, to_peaks(data), None
+        data = read_spectrum(e.file)
+        item = {
+            "data": data,
+            "name": e.name or data.meta.title or e.file.stem,
+            "smiles": e.smiles,
+            "role": e.role,
+            "prep": e.prep,
+            "notebook": e.notebook,
+            "operator": e.operator,
+            "note": e.note,
+            "force": _STATE["force"],
+        }
+        return "ok", _prepare(_STATE["encoding"], item, pos)
     except ReflibError as exc:
-        # exceptions cross the process boundary as (class, message, path, line): pickling
-        # would drop the keyword-only path and line
-        return None, None, (type(exc), exc.message, exc.path, exc.line)
+        return "error", (type(exc), exc.message, exc.path, exc.line)
 
 
 def run_import(
@@ -141,69 +174,95 @@ def run_import(
     progress: Callable[[int], object] | None = None,
     workers: int | None = None,
 ) -> ImportReport:
-    """Add each entry in its own transaction; collect failures instead of stopping.
+    """Import ``entries``; collect per-file failures instead of stopping.
 
-    Files are read and peak-picked in ``workers`` processes (default one per core when there
-    are at least :data:`READ_AHEAD` files; 1 reads in this process); the writes stay in this
-    process, one transaction per file, in manifest order.
+    Files are read, peak-picked and encoded in ``workers`` processes (default one per core
+    when there are at least :data:`READ_AHEAD` files; 1, a daemonic process or
+    ``REFLIB_WORKERS=1`` work in this process) while this process writes them, in manifest
+    order, :data:`IMPORT_CHUNK` files (or :data:`CHUNK_SECONDS` of work) per transaction.
+    A file already in the library (same SHA-256) is skipped, so a killed import, which loses
+    at most the chunk in flight, resumes when run again. A chunk that fails as a whole is
+    written file by file, so that one bad file is reported and the others are added.
     """
-    import os
+    import time
+
+    from reflib.library import workers as workers_mod
 
     report = ImportReport()
-    todo: list[ImportEntry] = []
-    for e in entries:
-        digest = _sha256(e.file)
-        if digest and not force and lib.store.spectrum_by_sha(digest):
-            report.skipped += 1
-            if progress:
-                progress(1)
-        else:
-            todo.append(e)
-    n_workers = workers if workers is not None else (os.cpu_count() or 1)
+    failures: list[tuple[int, str, str]] = []
+    known = frozenset() if force else lib.store.known_hashes()
+    state = (lib.encoding.to_dict(), known, force)
+    n_workers = workers_mod.worker_count(workers, len(entries), READ_AHEAD)
     pool = None
-    if n_workers > 1 and len(todo) >= READ_AHEAD:
-        from concurrent.futures import ProcessPoolExecutor
-
-        pool = ProcessPoolExecutor(max_workers=n_workers)
+    if n_workers > 1:
+        pool = workers_mod.start_pool(n_workers, _worker_init, state)
+        done = workers_mod.ordered_map(
+            pool, prepare_file, enumerate(entries), chunksize=16, ahead=4 * IMPORT_CHUNK // 16
+        )
+    else:
+        _worker_init(*state)
+        done = map(prepare_file, enumerate(entries))
+    batch: list = []
+    started = time.monotonic()
     try:
-        for start in range(0, len(todo), READ_AHEAD):
-            chunk = todo[start : start + READ_AHEAD]
-            files = [e.file for e in chunk]
-            loaded = list(pool.map(load_file, files)) if pool else [load_file(f) for f in files]
-            for e, (data, peaks, err) in zip(chunk, loaded):
-                _add_one(lib, e, data, peaks, err, force, report)
+        for (pos, e), (kind, payload) in zip(enumerate(entries), done):
+            if kind == "ok":
+                batch.append((pos, e, payload))
+            else:
+                if kind == "skipped":
+                    report.skipped += 1
+                else:
+                    cls, message, path, line = payload
+                    failures.append((pos, _label(e), _why(cls(message, path=path, line=line))))
                 if progress:
                     progress(1)
+            if batch and (
+                len(batch) >= IMPORT_CHUNK or time.monotonic() - started >= CHUNK_SECONDS
+            ):
+                _write_batch(lib, batch, report, failures, progress)
+                batch, started = [], time.monotonic()
+        if batch:
+            _write_batch(lib, batch, report, failures, progress)
     finally:
         if pool is not None:
             pool.shutdown(cancel_futures=True)
+        _STATE.clear()
+    report.failures = [(label, why) for _, label, why in sorted(failures)]
     return report
 
 
-def _add_one(lib, e: ImportEntry, data, peaks, err, force: bool, report: ImportReport) -> None:
-    label = str(e.file.name if e.line is None else f"{e.file.name} (manifest line {e.line})")
+def _write_batch(lib, batch: list, report: ImportReport, failures: list, progress) -> None:
+    """One transaction for the batch; if it fails, one per file, so the bad file is named."""
+    from reflib.library.bulk import write_prepared
+
     try:
-        if err is not None:
-            cls, message, path, line = err
-            raise cls(message, path=path, line=line)
-        name = e.name or data.meta.title or e.file.stem
-        res = lib.add(
-            data,
-            name=name,
-            smiles=e.smiles,
-            role=e.role,
-            prep=e.prep,
-            notebook=e.notebook,
-            operator=e.operator,
-            note=e.note,
-            force=force,
-            check_similar=False,
-            peaks=peaks,
-        )
+        written = [
+            (e, r) for (_, e, _), r in zip(batch, write_prepared(lib, [p for *_, p in batch]))
+        ]
+    except ReflibError:
+        written = []
+        for pos, e, p in batch:
+            try:
+                written += [(e, r) for r in write_prepared(lib, [p])]
+            except ReflibError as exc:
+                failures.append((pos, _label(e), _why(exc)))
+    lib._index = None
+    for e, r in written:
         report.added += 1
-        report.warnings += [f"{label}: {w}" for w in res.warnings]
-    except ReflibError as exc:
-        msg = exc.message if exc.path else str(exc)
-        if exc.line is not None and exc.path:
-            msg = f"line {exc.line}: {exc.message}"
-        report.failures.append((label, msg))
+        report.warnings += [f"{_label(e)}: {w}" for w in r.warnings]
+    if progress:
+        progress(len(batch))
+
+
+_ITEM_PREFIX = re.compile(r"^item \d+: ")
+
+
+def _label(e: ImportEntry) -> str:
+    return str(e.file.name if e.line is None else f"{e.file.name} (manifest line {e.line})")
+
+
+def _why(exc: ReflibError) -> str:
+    msg = exc.message if exc.path else str(exc)
+    if exc.line is not None and exc.path:
+        msg = f"line {exc.line}: {exc.message}"
+    return _ITEM_PREFIX.sub("", msg)  # the bulk writer numbers items; the label names the file

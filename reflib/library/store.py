@@ -487,7 +487,11 @@ class Store:
 
     @property
     def encoding(self) -> Encoding:
-        return Encoding.from_dict(json.loads(self.get_meta("encoding") or "{}"))
+        raw = self.get_meta("encoding") or "{}"
+        cached = getattr(self, "_encoding_cache", None)
+        if cached is None or cached[0] != raw:  # parsed once per stored text
+            cached = self._encoding_cache = (raw, Encoding.from_dict(json.loads(raw)))
+        return cached[1]
 
     # --- compounds -----------------------------------------------------------------------------
 
@@ -617,6 +621,11 @@ class Store:
         )
         cols = [d[0] for d in cur.description]
         return [dict(zip(cols, r)) for r in cur.fetchall()]
+
+    def known_hashes(self) -> frozenset[str]:
+        """The SHA-256 of every stored file (to skip files already in the library)."""
+        rows = self.conn.execute("SELECT sha256 FROM spectra WHERE sha256 IS NOT NULL")
+        return frozenset(r[0] for r in rows)
 
     def peaks_of(self, spectrum_id: int) -> PeakList:
         rows = self.conn.execute(

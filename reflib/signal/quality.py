@@ -217,6 +217,7 @@ def _saturation(tr: _Trace, peaks: PeakList | None) -> Finding | None:
     if not bands:
         return None
     bands.sort(reverse=True)
+
     def lowest(lo: float, hi: float) -> float:
         sel = (tr.x >= lo) & (tr.x <= hi)
         if not sel.any():  # a band position between two points: the nearest point

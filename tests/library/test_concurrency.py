@@ -247,7 +247,8 @@ def test_read_transaction_sees_one_snapshot(tmp_path):
 
 # --- interrupted imports ----------------------------------------------------------------------
 
-N_FILES = 400
+#: Enough files that an import writing a chunk of 256 per transaction is still running when killed.
+N_FILES = 3000
 N_KILLS = 3
 
 
