@@ -18,13 +18,10 @@ with different encodings merge correctly.
 
 from __future__ import annotations
 
-import json
 import sqlite3
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
-
-import numpy as np
 
 from reflib.analysis.encode import comparable_peaks, encode
 from reflib.errors import LibraryError
@@ -37,8 +34,9 @@ from reflib.library.store import (
     check_storable,
     pack_vector,
     peak_rows,
+    peaks_from_rows,
 )
-from reflib.spectrum import Metadata, PeakList
+from reflib.spectrum import PeakList
 
 #: Spectrum columns copied as they are from the other library.
 SPECTRUM_COLUMNS = (
@@ -98,27 +96,16 @@ def _rows(conn: sqlite3.Connection, sql: str, args: tuple = ()) -> list[dict[str
 
 
 def _peaks(conn: sqlite3.Connection, spectrum_id: int, rec: dict[str, Any]) -> PeakList:
+    """The other library's bands of one spectrum, with the author's labels where its schema
+    has them."""
+    cols = {r[1] for r in conn.execute("PRAGMA table_info(peaks)")}
+    label = ", label" if "label" in cols else ""
     rows = conn.execute(
-        "SELECT position, intensity, width, strength, broad, shoulder FROM peaks "
+        f"SELECT position, intensity, width, strength, broad, shoulder{label} FROM peaks "
         "WHERE spectrum_id = ? ORDER BY position",
         (spectrum_id,),
     ).fetchall()
-    prep = [t for t in (rec["prep"] or "").split(",") if t]
-    fields = set(Metadata.__dataclass_fields__)
-    meta_d = {k: v for k, v in json.loads(rec["meta"] or "{}").items() if k in fields}
-    meta = Metadata(**{**meta_d, "prep": prep})
-    if not rows:
-        return PeakList(np.zeros(0), np.zeros(0), meta=meta)
-    pos, inten, width, strength, broad, shoulder = zip(*rows)
-    return PeakList(
-        np.array(pos, float),
-        np.array(inten, float),
-        np.array([np.nan if w is None else w for w in width], float),
-        list(strength),
-        np.array(broad, bool),
-        np.array(shoulder, bool),
-        meta=meta,
-    )
+    return peaks_from_rows(rows, rec)
 
 
 def _peak_key(cid: int, positions) -> tuple:

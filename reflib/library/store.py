@@ -633,21 +633,7 @@ class Store:
             "WHERE spectrum_id = ? ORDER BY position",
             (int(spectrum_id),),
         ).fetchall()
-        rec = self.spectrum_record(spectrum_id)
-        meta = Metadata(**{**_meta_from_json(rec["meta"]), "prep": _split_prep(rec["prep"])})
-        if not rows:
-            return PeakList(np.zeros(0), np.zeros(0), meta=meta)
-        pos, inten, width, strength, broad, shoulder, label = zip(*rows)
-        return PeakList(
-            np.array(pos, float),
-            np.array(inten, float),
-            np.array([np.nan if w is None else w for w in width], float),
-            list(strength),
-            np.array(broad, bool),
-            np.array(shoulder, bool),
-            meta=meta,
-            labels=list(label) if any(v is not None for v in label) else None,
-        )
+        return peaks_from_rows(rows, self.spectrum_record(spectrum_id))
 
     def full_spectrum(self, spectrum_id: int) -> Spectrum | None:
         rec = self.spectrum_record(spectrum_id)
@@ -692,6 +678,28 @@ class Store:
                 t: int(self.conn.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0])
                 for t in ("compounds", "spectra", "peaks", "vectors")
             }
+
+
+def peaks_from_rows(rows: list, rec: Any) -> PeakList:
+    """A :class:`PeakList` from rows of ``peaks`` (position, intensity, width, strength, broad,
+    shoulder and, from schema 3 on, label) and the spectrum's record (its ``meta`` and ``prep``
+    columns). Also reads another library's rows (``reflib merge``), of any schema."""
+    meta = Metadata(**{**_meta_from_json(rec["meta"]), "prep": _split_prep(rec["prep"])})
+    if not rows:
+        return PeakList(np.zeros(0), np.zeros(0), meta=meta)
+    cols = list(zip(*rows))
+    pos, inten, width, strength, broad, shoulder = cols[:6]
+    label = cols[6] if len(cols) > 6 else (None,) * len(pos)
+    return PeakList(
+        np.array(pos, float),
+        np.array(inten, float),
+        np.array([np.nan if w is None else w for w in width], float),
+        list(strength),
+        np.array(broad, bool),
+        np.array(shoulder, bool),
+        meta=meta,
+        labels=list(label) if any(v is not None for v in label) else None,
+    )
 
 
 def _split_prep(text: str | None) -> list[str]:

@@ -176,3 +176,26 @@ def test_cli_merge_exit_status_and_json(tmp_path):
     )
     assert r.exit_code == 1, r.output
     assert json.loads(r.output)["conflicts"][0]["name"] == "compound 7"
+
+
+def test_merge_keeps_the_authors_band_labels(tmp_path):
+    """A typed band's assignment ("C=O") travels with the spectrum into the other library."""
+    a = Library.create(tmp_path / "a.sqlite")
+    b = Library.create(tmp_path / "b.sqlite")
+    labels = [None] * len(ETHYL_ACETATE[0])
+    labels[2], labels[5] = "C=O", "C-O"
+    pl = PeakList(
+        np.array(ETHYL_ACETATE[0], float),
+        np.linspace(1.0, 0.2, len(labels)),
+        meta=Metadata(sha256="s9", source_file="s9.txt"),
+        labels=labels,
+    )
+    b.add(pl, name="ethyl acetate", prep="film", check_similar=False)
+    b.close()
+    a.merge(tmp_path / "b.sqlite")
+    sid = a.store.spectra_of(a.store.find_compound("ethyl acetate")["id"])[0]["id"]
+    got = a.store.peaks_of(int(sid))
+    assert dict(zip(got.positions.tolist(), got.labels)) == dict(
+        zip([float(p) for p in ETHYL_ACETATE[0]], labels)
+    )
+    a.close()
