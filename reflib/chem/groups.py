@@ -529,13 +529,20 @@ def analyse(
     return GroupReport(query, calls, explained, phase, elements)
 
 
+#: Overtone and combination bands are weak by nature: a band stronger than this strength word
+#: is not read as one (common practice, no source: an aromatic ring's 2000-1650 cm-1 pattern is
+#: very weak beside the ring stretches; a weak or stronger band there is read as a C=O or C=C).
+OVERTONE_MAX_STRENGTH = "vw"
+
+
 def _seen(rule: Rule, usable: Sequence[_Band], phase: str) -> _Band | None:
     lo, hi = rule.window(phase)
+    top = _LEVEL[OVERTONE_MAX_STRENGTH] if "overtone" in rule.role else _LEVEL["vs"]
     found = [
         b
         for b in usable
         if lo <= b.position <= hi
-        and b.level >= _LEVEL[rule.min_strength]
+        and _LEVEL[rule.min_strength] <= b.level <= top
         and _shape_ok(b, rule.shape, phase)
     ]
     return max(found, key=lambda b: b.intensity) if found else None

@@ -195,7 +195,37 @@ def _flat_near_floor(tr: _Trace, corrected: np.ndarray) -> list[tuple[int, int]]
     return out
 
 
-def _saturation(tr: _Trace, peaks: PeakList | None) -> Finding | None:
+def _opaque_regions(tokens: Sequence[str]) -> list[tuple[float, float]]:
+    """Ranges (cm-1) the named solvents and windows make opaque: a flat top there is the
+    solvent's or the window's own, expected, not an over-thick sample."""
+    if not tokens:
+        return []
+    from reflib.chem import prep as prep_mod
+    from reflib.errors import ValidationError
+
+    try:
+        regions = prep_mod.regions_for(tokens, air=False)
+    except ValidationError:  # an unknown token is reported where the preparation is checked
+        return []
+    return [(r.lo, r.hi) for r in regions if r.weight == 0.0]
+
+
+#: What to do about a flat-topped band: the path is too long, except in ATR, where the depth
+#: of penetration is fixed and a flat top means clipped or wrongly converted data (common
+#: practice, no source).
+SATURATION_REMEDY = "use a thinner film, less sample in the pellet or a shorter path"
+SATURATION_REMEDY_ATR = (
+    "an ATR band should not saturate: check that the file was exported as absorbance or %T "
+    "without clipping, and that the crystal was clean when the background was taken"
+)
+
+
+def _saturation(
+    tr: _Trace,
+    peaks: PeakList | None,
+    opaque: Sequence[tuple[float, float]] = (),
+    atr: bool = False,
+) -> Finding | None:
     corrected = tr.a - baseline(tr.a, tr.x)
     runs = [tuple(r) for r in saturated_runs(tr.a, from_transmittance=tr.from_t)]
     if not tr.from_t:
@@ -208,15 +238,20 @@ def _saturation(tr: _Trace, peaks: PeakList | None) -> Finding | None:
         lo, hi = float(tr.x[start]), float(tr.x[stop - 1])
         if any(b[0] <= hi and lo <= b[1] for b in bands):
             continue
+        if any(o_lo - 10.0 <= lo and hi <= o_hi + 10.0 for o_lo, o_hi in opaque):
+            continue  # the solvent's (or window's) own opaque band: expected, not a fault
         bands.append((lo, hi))
     if peaks is not None and peaks.meta.extra.get("saturated"):
         for tok in str(peaks.meta.extra["saturated"]).split(","):
             p = float(tok)
-            if not any(lo - 5 <= p <= hi + 5 for lo, hi in bands):
+            if not any(lo - 5 <= p <= hi + 5 for lo, hi in bands) and not any(
+                o_lo <= p <= o_hi for o_lo, o_hi in opaque
+            ):
                 bands.append((p, p))
     if not bands:
         return None
     bands.sort(reverse=True)
+    remedy = SATURATION_REMEDY_ATR if atr else SATURATION_REMEDY
 
     def lowest(lo: float, hi: float) -> float:
         sel = (tr.x >= lo) & (tr.x <= hi)
@@ -231,8 +266,7 @@ def _saturation(tr: _Trace, peaks: PeakList | None) -> Finding | None:
         "saturation",
         "warn",
         f"flat-topped (saturated) band(s) at {where} cm-1, lowest {min(floor):.1f} %T: their "
-        "positions are uncertain and their heights mean nothing; use a thinner film, less "
-        "sample in the pellet or a shorter path",
+        "positions are uncertain and their heights mean nothing; " + remedy,
         {
             "bands": [
                 {"from_cm1": _r(hi), "to_cm1": _r(lo), "centre_cm1": _r(0.5 * (lo + hi))}
@@ -610,7 +644,7 @@ def assess(
     gas = "gas" in tokens or "gas" in (spectrum.meta.state or "").lower()
     tr = _prepare(spectrum)
     checks: list[Finding | None] = [
-        _saturation(tr, peaks),
+        _saturation(tr, peaks, _opaque_regions(tokens), any(k.startswith("atr") for k in tokens)),
         _over_100(tr, spectrum.meta.extra.get("transmittance_over_100")),
         _dips(tr),
     ]

@@ -148,3 +148,32 @@ def test_finding_json_shape():
     d = to_dicts(assess(Spectrum(X, _sample() + _noise(0.02))))
     assert all({"check", "severity", "message"} <= set(e) for e in d)
     assert d[0]["severity"] == "warn"  # most severe first
+
+
+def _solvent_flat_top() -> np.ndarray:
+    """The sample in chloroform: the solvent's C-H bend near 1215 cm-1 driven far past what a
+    0.1 mm cell passes (opaque, common practice, no source), with 2 % stray light."""
+    t = np.power(10.0, -(_sample() + 6.0 * _band(1216, 30)))
+    return (t + 0.02) / 1.02 + _noise(0.0005)
+
+
+def test_a_solvents_own_opaque_band_is_not_reported_as_saturation():
+    """Chloroform's own 1215 band is opaque in a solution cell: expected, not a fault of the
+    sample. Named as chcl3 it is not reported; unnamed it is (reflib cannot know it is the
+    solvent's)."""
+    t = _solvent_flat_top()
+    named = _by_check(assess(Spectrum(X, t, "transmittance"), prep=["chcl3"]))
+    assert "saturation" not in named
+    unnamed = _by_check(assess(Spectrum(X, t, "transmittance")))["saturation"]
+    assert unnamed.figures["bands"][0]["centre_cm1"] == pytest.approx(1216.0, abs=5.0)
+
+
+def test_saturation_remedy_suits_the_preparation():
+    """A thinner film helps a transmission spectrum; an ATR band cannot be thinned (fixed
+    depth of penetration, common practice, no source), so its remedy is about the data."""
+    t = np.power(10.0, -(_sample() + 3.0 * _band(1715, 15)))
+    t_obs = (t + 0.02) / 1.02 + _noise(0.0005)
+    film = _by_check(assess(Spectrum(X, t_obs, "transmittance"), prep=["film"]))["saturation"]
+    atr = _by_check(assess(Spectrum(X, t_obs, "transmittance"), prep=["atr"]))["saturation"]
+    assert "thinner film" in film.message and "thinner film" not in atr.message
+    assert "ATR" in atr.message
