@@ -433,6 +433,7 @@ def leftover(
         return _start_only(
             info_s, y, S, grid, usable, noise, ub_share, sample_top, a_y, notes,
             start=start, a_s=a_s, corr_pts=corr_pts, others=extra_refs,
+            product_bands=_product_group_bands(sample, start, sp.prep),
         )  # fmt: skip
 
     # --- product known: local fits ---
@@ -662,6 +663,14 @@ START_SEEN_Z = 3.0
 START_DETECT_Z = 6.0
 #: Start only: seen bands (right place, width and shape) needed among the consistent ones.
 START_MIN_SEEN = 1
+#: Start only: fraction of a Lorentzian tail of a nearby product band (see
+#: :func:`_flank_allowance`) counted as a systematic error of a starting-material band's amount
+#: (band shapes of condensed phases lie between Gaussian and Lorentzian; common practice, no
+#: source).
+PRODUCT_TAIL = 1.0
+#: Start only: product bands farther than this many widths of the starting-material band leave
+#: no tail worth counting.
+PRODUCT_TAIL_REACH = 5.0
 
 
 @dataclass
@@ -676,6 +685,7 @@ class _StartBand:
     shift: float  # cm-1
     ceiling: float  # largest amount the sample leaves room for at the band's core
     broad: bool  # too broad to judge by shape (a hydrogen-bonded envelope): ceiling only
+    flank: float = 0.0  # amount a nearby product band's tail may put there (see PRODUCT_TAIL)
 
 
 def _start_band_fit(
@@ -820,8 +830,13 @@ def start_only_bands(
     noise: float,
     corr_pts: float,
     others: list[np.ndarray] = (),  # type: ignore[assignment]
+    product_bands: list[float] = (),  # type: ignore[assignment]
 ) -> list[_StartBand]:
-    """Every strong starting-material band judged in the sample (see :func:`_start_band_fit`)."""
+    """Every strong starting-material band judged in the sample (see :func:`_start_band_fit`).
+
+    ``product_bands`` are the sample's bands of groups the crude shows and the starting material
+    does not (:func:`_product_group_bands`): a band's amount is judged against the tail such a
+    band puts at it (:func:`_flank_allowance`) as well as against the noise."""
     out = []
     for pos, rel, fwhm in _start_bands(start, grid, S, usable):
         win = _window(grid, pos, fwhm, usable)
@@ -833,10 +848,59 @@ def start_only_bands(
         broad = max(fwhm, _profile_fwhm(S, grid, pos)) > BROAD_FWHM_CM1
         # a band the sample does not show has no shape to judge: it is absent, and its ceiling
         # (the sample leaves no room for it) is the strongest evidence there is
+        flank = _flank_allowance(y, grid, pos, fwhm, peak, product_bands)
+        sg = float(np.hypot(sg, flank))
         shown = a >= START_SEEN_Z * sg and a * peak >= START_SEEN_Z * noise
         shape_ok = misfit <= SHAPE_LIMIT or not shown
-        out.append(_StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad))
+        out.append(_StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad, flank))
     return out
+
+
+def _product_group_bands(sample: Data, start: Data, prep: Iterable[str]) -> list[float]:
+    """Positions (cm-1) of the sample's bands that speak for a group the crude shows
+    (``present`` in :func:`reflib.chem.groups.analyse`) and the starting material does not: the
+    product's likely bands (an acid's C=O beside an ester's, an amide's beside an amine's)."""
+    from reflib.chem.groups import groups
+
+    try:
+        crude = groups(sample, prep=list(prep))
+        own = set(groups(start).named("present"))
+    except ValidationError:
+        return []
+    out: set[float] = set()
+    for call in crude.groups:
+        if call.call != "present" or call.group in own:
+            continue
+        out.update(float(e.cm1) for e in call.evidence if e.seen and e.cm1 is not None)
+    return sorted(out)
+
+
+def _flank_allowance(
+    y: np.ndarray,
+    grid: np.ndarray,
+    pos: float,
+    fwhm: float,
+    peak: float,
+    product_bands: list[float],
+) -> float:
+    """The amount of starting material a product band's tail can fake at a band at ``pos``:
+    for each product band farther than the largest shift (a band on top is judged by shape and
+    by the other bands) and within :data:`PRODUCT_TAIL_REACH` widths, the sample's height there
+    times a Lorentzian's relative height at that distance (:data:`PRODUCT_TAIL` of it, with the
+    starting-material band's width standing in for the product band's), over the reference
+    band's height. The local baseline and neighbour columns take up part of such a tail, not all."""
+    if peak <= 0 or not product_bands:
+        return 0.0
+    w = max(float(fwhm), 1.0)
+    total = 0.0
+    for c in product_bands:
+        d = abs(c - pos)
+        if d <= START_MAX_SHIFT_CM1 or d > PRODUCT_TAIL_REACH * w:
+            continue
+        i = int(np.clip(np.searchsorted(grid, c), 0, grid.size - 1))
+        h = float(np.clip(y[max(i - 2, 0) : i + 3].max(), 0.0, None))
+        total += PRODUCT_TAIL * h * w**2 / (w**2 + 4.0 * d**2)
+    return total / peak
 
 
 def _ceiling(b: _StartBand) -> float:
@@ -882,6 +946,7 @@ def _start_only(
     a_s: float,
     corr_pts: float,
     others: list[np.ndarray] = (),  # type: ignore[assignment]
+    product_bands: list[float] = (),  # type: ignore[assignment]
 ) -> LeftoverResult:
     """Start only: every strong starting-material band fitted in the sample (shifted starting
     material, interfering reagents/solvents, straight baseline); a band the sample shows must
@@ -889,7 +954,9 @@ def _start_only(
     bands that agree with the lowest ceiling (:func:`consistent_low_group`), judged against the
     sample's noise and the day-to-day spread of band heights (:func:`combine_bands`)."""
     notes.append("the pure product is not given: the share rests on the starting material's bands")
-    sb = start_only_bands(y, grid, S, start, usable, noise, corr_pts, list(others))
+    sb = start_only_bands(
+        y, grid, S, start, usable, noise, corr_pts, list(others), list(product_bands)
+    )
     if not sb or ub_share is None or a_y <= 0:
         notes.append("no strong starting-material band lies in an unmasked region")
         return LeftoverResult(info_s, None, False, None, None, ub_share, 1.0, [], notes)
