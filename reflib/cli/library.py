@@ -100,6 +100,12 @@ def import_(
     prep: str = typer.Option(None, "--prep", help="Preparation tokens for all files."),
     role: str = typer.Option(None, "--role", help="Role for entries without their own."),
     force: bool = typer.Option(False, "--force", help="Add exact duplicates too."),
+    calibrate: bool = typer.Option(
+        True,
+        "--calibrate/--no-calibrate",
+        help="Recalibrate the verdict afterwards when the library has changed enough "
+        "(--no-calibrate: leave it to 'reflib calibrate', e.g. between batches).",
+    ),
     library: Path = LibraryOpt,
 ) -> None:
     """Add many spectra from a manifest CSV or a folder of spectra.
@@ -107,13 +113,21 @@ def import_(
     Manifest columns: file,name,prep,smiles,role,notebook,operator,note (only file is required;
     paths relative to the manifest).
     """
+    from reflib.library.calibrate import needs_calibration
     from reflib.library.importer import plan_import, run_import
 
     entries = plan_import(source, prep=prep, role=role)
     with _open(library) as lib:
         with typer.progressbar(length=len(entries), label="importing", file=sys.stderr) as bar:
             report = run_import(lib, entries, force=force, progress=bar.update)
-        auto_calibrate(lib)
+        if calibrate:
+            auto_calibrate(lib)
+        elif needs_calibration(lib):
+            typer.echo(
+                "the verdict's calibration is out of date: run 'reflib calibrate' "
+                "(until then searches use the old calibration or the fixed rule)",
+                err=True,
+            )
     typer.echo(
         f"added {report.added}, skipped {report.skipped} already in the library, "
         f"failed {len(report.failures)}"

@@ -51,6 +51,7 @@ above 3000 cm-1 (O-H, N-H stretches), 60 cm-1 below (common practice, no source)
 from __future__ import annotations
 
 import bisect
+import functools
 import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -136,6 +137,7 @@ _SYMBOL = re.compile("|".join(_SYMBOLS))
 _FORMULA = re.compile(rf"(?:{_SYMBOL.pattern}|\d+|[-=≡#()\[\]+·'])+")
 _BOND_CHARS = set("-=≡#")
 _GREEK_PREFIX = re.compile(r"[νδγρωτβv](?:as|sym|asym|s)?(?=[A-Z(\[])")
+_CHUNK = re.compile(r"[^\s/]+")
 _UNIT_CHUNK = re.compile(r"(?i)cm\s*\^?\s*(?:\(\s*-\s*1\s*\)|-\s*1)|1\s*/\s*cm")
 
 # -- techniques of a characterisation line ----------------------------------------------------
@@ -175,6 +177,22 @@ _OTHER_MARKERS: list[tuple[str, re.Pattern[str]]] = [
         ),
     ),
     ("chromatography", re.compile(r"(?<![\w-])(?:HPLC|TLC|GC)(?![\w-])")),
+]
+#: For each pattern of :data:`_OTHER_MARKERS`, texts of which every match holds at least one:
+#: a text holding none is not searched (most peak lists name no other technique).
+_MARKER_NEEDS: list[tuple[str, ...]] = [
+    ("NMR",),
+    ("δ",),
+    ("MS",),
+    ("m/z",),
+    ("[",),
+    ("UV",),
+    ("λ",),
+    ("P", "p"),
+    ("R",),
+    ("α",),
+    ("nal", "alc", "Found"),
+    ("C",),
 ]
 #: Words after a number that make it a quantity, not a band (in text outside the IR part).
 _QUANTITY_WORDS = {
@@ -258,11 +276,14 @@ _TOKEN = re.compile(
 )
 
 
-@dataclass
 class _Tok:
-    kind: str
-    text: str
-    start: int
+    __slots__ = ("kind", "text", "start")
+
+    def __init__(self, kind: str, text: str, start: int):
+        self.kind, self.text, self.start = kind, text, start
+
+    def __repr__(self) -> str:
+        return f"_Tok({self.kind!r}, {self.text!r}, {self.start})"
 
     @property
     def end(self) -> int:
@@ -308,19 +329,20 @@ def _normalise(text: str) -> str:
 
 
 def _tokens(text: str) -> list[_Tok]:
-    toks = []
-    for m in _TOKEN.finditer(text):
-        kind = "range" if m.group("range") is not None else m.lastgroup
-        if kind == "ws":
-            continue
-        toks.append(_Tok(str(kind), m.group(0), m.start()))
-    return toks
+    # The outermost group that matched names the token ('range', not its inner 'r1'/'r2').
+    return [
+        _Tok(m.lastgroup, m.group(), m.start())  # type: ignore[arg-type]
+        for m in _TOKEN.finditer(text)
+        if m.lastgroup != "ws"
+    ]
 
 
 def _markers(text: str) -> list[_Marker]:
     """Technique names in ``text``, in order; a name inside an earlier one's match is dropped."""
     found = [_Marker("IR", m.start(), m.end(), m.group(0)) for m in _IR_MARKERS.finditer(text)]
-    for name, pattern in _OTHER_MARKERS:
+    for (name, pattern), needs in zip(_OTHER_MARKERS, _MARKER_NEEDS):
+        if not any(n in text for n in needs):
+            continue
         found += [_Marker(name, m.start(), m.end(), m.group(0)) for m in pattern.finditer(text)]
     found.sort(key=lambda m: (m.start, -m.end))
     out: list[_Marker] = []
@@ -349,6 +371,7 @@ def _formula_atoms(text: str) -> tuple[int, bool, bool] | None:
     return atoms, abbrev, bool(_BOND_CHARS & set(text))
 
 
+@functools.lru_cache(maxsize=4096)
 def _chunk_kind(chunk: str) -> str:
     """``'descriptor'``, ``'number'``, ``'unit'``, ``'group'`` (a formula or group name),
     ``'qualifier'`` or ``'unknown'`` for one word of a band's parentheses."""
@@ -520,7 +543,7 @@ class _Parser:
         assigned: list[tuple[str, int, str]] = []  # chunk, start, kind
         for item, offset in _split_items(self.text[tok.start + 1 : close], tok.start + 1):
             parts = []
-            for m in re.finditer(r"[^\s/]+", item):
+            for m in _CHUNK.finditer(item):
                 chunk, start = m.group(0), offset + m.start()
                 kind = _chunk_kind(chunk)
                 if kind == "descriptor":

@@ -88,6 +88,32 @@ class _Prepared:
     structure: dict[str, Any] | None
     item: dict[str, Any]
     warnings: list[str]
+    rows: _Rows | None = None  # set by :meth:`lighten`
+
+
+@dataclass
+class _Rows:
+    """What :func:`write_prepared` writes for one item, but the ids: the ``spectra`` row (its
+    ``compound_id`` and ``notes`` are set at write time), the ``peaks`` rows without their
+    spectrum id, and the stored vector."""
+
+    spectrum: dict[str, Any]
+    peaks: list[tuple]
+    vector: bytes
+
+
+def _rows(p: _Prepared) -> _Rows:
+    spec = spectrum_row(0, p.data, prep=p.tokens, operator=p.item.get("operator"))
+    return _Rows(spec, [r[1:] for r in peak_rows(0, p.peaks)], pack_vector(p.vector))
+
+
+def lighten(p: _Prepared) -> _Prepared:
+    """``p`` with its rows built and the objects they came from dropped: what an import worker
+    sends back (plain rows and bytes pickle in a fraction of the time of a PeakList)."""
+    rows = p.rows or _rows(p)
+    item = {k: v for k, v in p.item.items() if k != "data"}
+    return _Prepared(p.pos, None, p.name, p.role, p.tokens, None, None, p.structure, item,
+                     p.warnings, rows)  # fmt: skip
 
 
 #: A chunk with at least this many full spectra is peak-picked in worker processes.
@@ -255,8 +281,12 @@ def write_prepared(lib: Any, prepared: list[_Prepared]) -> list[AddResult]:
             next_sid += 1
             sid = next_sid
             spectrum_rows.append(_spectrum_row(sid, cid, p, new_compound))
-            all_peaks += peak_rows(sid, p.peaks)
-            vector_rows.append((sid, enc_key, pack_vector(p.vector)))
+            if p.rows is None:
+                all_peaks += peak_rows(sid, p.peaks)
+                vector_rows.append((sid, enc_key, pack_vector(p.vector)))
+            else:
+                all_peaks += [(sid, *r) for r in p.rows.peaks]
+                vector_rows.append((sid, enc_key, p.rows.vector))
             results.append(AddResult(cid, sid, p.name, new_compound, p.warnings))
         _insert_rows(conn, "compounds", compound_rows)
         conn.executemany("UPDATE compounds SET role = ? WHERE id = ?", role_updates)
@@ -269,7 +299,7 @@ def write_prepared(lib: Any, prepared: list[_Prepared]) -> list[AddResult]:
 
 def _history_row(p: _Prepared, r: AddResult) -> tuple:
     """The history record of one bulk-added spectrum (as :func:`history.record_add` writes)."""
-    source = getattr(p.data.meta, "source_file", None) or "no file name"
+    source = _meta_field(p, "source_file") or "no file name"
     what = ("new compound; " if r.new_compound else "") + f"spectrum from {source}"
     return ("add", r.compound_id, r.name, p.item.get("operator"), "spectrum", None,
             r.spectrum_id, what)  # fmt: skip
@@ -279,7 +309,7 @@ def _refuse_duplicates(lib: Any, prepared: list[_Prepared]) -> None:
     """The duplicate-file check of :meth:`Library.add`, one query per chunk."""
     shas = {}
     for p in prepared:
-        sha = p.data.meta.sha256
+        sha = _meta_field(p, "sha256")
         if sha and not p.item.get("force", False):
             if sha in shas:
                 raise ValidationError(
@@ -371,14 +401,16 @@ def _compound_row(cid: int, p: _Prepared) -> dict[str, Any]:
 
 def _spectrum_row(sid: int, cid: int, p: _Prepared, new_compound: bool) -> dict[str, Any]:
     """The spectra row :meth:`Store.insert_spectrum` writes, with its id."""
-    rec = spectrum_row(
-        cid,
-        p.data,
-        prep=p.tokens,
-        operator=p.item.get("operator"),
-        notes=p.item.get("note") if not new_compound else None,
-    )
+    notes = p.item.get("note") if not new_compound else None
+    if p.rows is not None:
+        return {"id": sid, **p.rows.spectrum, "compound_id": cid, "notes": notes}
+    rec = spectrum_row(cid, p.data, prep=p.tokens, operator=p.item.get("operator"), notes=notes)
     return {"id": sid, **rec}
+
+
+def _meta_field(p: _Prepared, key: str) -> Any:
+    """``source_file`` or ``sha256`` of the item's file (from its row once lightened)."""
+    return p.rows.spectrum[key] if p.rows is not None else getattr(p.data.meta, key, None)
 
 
 def _insert_rows(conn, table: str, rows: list[dict[str, Any]]) -> None:

@@ -143,7 +143,7 @@ def prepare_file(task: tuple[int, ImportEntry]):
     the keyword-only path and line.
     """
     from reflib.io import read_spectrum
-    from reflib.library.bulk import _prepare
+    from reflib.library.bulk import _prepare, lighten
 
     pos, e = task
     if not _STATE["force"] and _sha256(e.file) in _STATE["known"]:
@@ -161,7 +161,7 @@ def prepare_file(task: tuple[int, ImportEntry]):
             "note": e.note,
             "force": _STATE["force"],
         }
-        return "ok", _prepare(_STATE["encoding"], item, pos)
+        return "ok", lighten(_prepare(_STATE["encoding"], item, pos))
     except ReflibError as exc:
         return "error", (type(exc), exc.message, exc.path, exc.line)
 
