@@ -6,11 +6,12 @@ One command, not a test (tests/test_layout.py runs the same checks)::
     python scripts/import_graph.py          # exit 0: no cycle, every rule kept
     python scripts/import_graph.py --edges  # also list every edge
 
-``from reflib.x import y`` counts as an import of the module ``reflib.x.y`` when ``y`` is a
-module, else of ``reflib.x`` (its ``__init__``); ``importlib.import_module("reflib...")`` with a
-constant name counts too. Importing ``reflib.a.b`` also runs ``reflib.a``'s ``__init__``, which
-Python does once per process; that implicit step is not counted as an edge (a package's own
-``__init__`` may re-export its modules).
+``from reflib.x import y`` counts as an import of ``reflib.x`` (its ``__init__``, which runs
+first) and, when ``y`` is a module, of ``reflib.x.y`` too; ``importlib.import_module("reflib...")``
+with a constant name counts as well. So a module inside a package imports its siblings by their
+full name (``from reflib.library.store import Store``), never through the package, whose
+``__init__`` may re-export them. ``import reflib.a.b`` counts as an import of ``reflib.a.b``
+only.
 """
 
 from __future__ import annotations
@@ -66,9 +67,11 @@ def imports_of(path: Path) -> set[str]:
             if node.level:
                 anchor = pkg.split(".")[: len(pkg.split(".")) - node.level + 1]
                 base = ".".join(anchor + ([base] if base else []))
+            found.add(base)  # ``from pkg import x`` runs pkg's __init__ first, module or not
             for a in node.names:
                 sub = f"{base}.{a.name}"
-                found.add(sub if _is_module(sub) else base)
+                if _is_module(sub):
+                    found.add(sub)
         elif (
             isinstance(node, ast.Call)
             and isinstance(node.func, ast.Attribute)

@@ -41,7 +41,25 @@ def test_function_level_imports_count(tmp_path, monkeypatch):
     (src.parent / "n.py").write_text("")
     src.write_text("def f():\n    from reflib import n\n    import reflib.n\n")
     monkeypatch.setattr(import_graph, "ROOT", tmp_path)
-    assert import_graph.imports_of(src) == {"reflib.n"}
+    # ``from reflib import n`` runs reflib/__init__.py before it reaches n
+    assert import_graph.imports_of(src) == {"reflib", "reflib.n"}
+
+
+def test_a_sibling_taken_through_its_package_is_a_cycle(tmp_path, monkeypatch):
+    """pkg/__init__ re-exports core, core needs bulk, and bulk takes workers through the package:
+    bulk -> pkg (its __init__ runs first) -> core -> bulk."""
+    pkg = tmp_path / "reflib" / "pkg"
+    pkg.mkdir(parents=True)
+    (tmp_path / "reflib" / "__init__.py").write_text("")
+    (pkg / "__init__.py").write_text("from reflib.pkg.core import Thing\n")
+    (pkg / "core.py").write_text("def add():\n    from reflib.pkg.bulk import run\n")
+    (pkg / "bulk.py").write_text("def run():\n    from reflib.pkg import workers\n")
+    (pkg / "workers.py").write_text("")
+    monkeypatch.setattr(import_graph, "ROOT", tmp_path)
+    monkeypatch.setattr(import_graph, "PACKAGE", tmp_path / "reflib")
+    assert import_graph.cycles(import_graph.graph()) == [
+        ["reflib.pkg", "reflib.pkg.bulk", "reflib.pkg.core"]
+    ]
 
 
 def test_every_subpackage_says_what_lives_there():

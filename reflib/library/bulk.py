@@ -136,7 +136,7 @@ def add_bulk(
     holds at least :data:`PARALLEL_MIN` spectra; 1 picks in this process).
     Returns one :class:`~reflib.library.AddResult` per item, in order.
     """
-    from reflib.library import workers as workers_mod
+    import reflib.library.workers as workers_mod
 
     if chunk_size < 1:
         raise ValidationError(f"chunk_size must be at least 1, got {chunk_size}")

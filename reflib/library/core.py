@@ -269,7 +269,7 @@ class Library:
     def index(self):
         """The search index (:mod:`reflib.library.index`): cached beside the file, rebuilt when
         stale."""
-        from reflib.library import index as index_mod
+        import reflib.library.index as index_mod
 
         rev = self.revision
         if self._index is None or self._index.key.get("revision") != rev:

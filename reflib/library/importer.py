@@ -186,7 +186,7 @@ def run_import(
     """
     import time
 
-    from reflib.library import workers as workers_mod
+    import reflib.library.workers as workers_mod
 
     report = ImportReport()
     failures: list[tuple[int, str, str]] = []
