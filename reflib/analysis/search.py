@@ -374,34 +374,128 @@ def match_bands(
 ) -> list[tuple[int, int]]:
     """Pair query bands with reference bands one-to-one, closest first, within tolerance (cm-1).
 
-    Broad bands match within half the wider band's width. Returns (query index, ref index) pairs.
+    Broad bands match within half the wider band's width. Returns (query index, ref index) pairs,
+    ascending: the most pairs possible and, among those, the least total distance.
     """
-    from reflib.signal.assignment import linear_sum_assignment
-
     if len(query) == 0 or len(ref) == 0:
         return []
-    qp, rp = query.positions, ref.positions
+    qi, rj = pair_positions(
+        query.positions, _half_broad(query), ref.positions, _half_broad(ref), tolerance
+    )
+    return list(zip(qi.tolist(), rj.tolist()))
+
+
+def _half_broad(peaks: PeakList) -> np.ndarray:
+    return np.where(peaks.broad & np.isfinite(peaks.widths), peaks.widths / 2, 0.0)
+
+
+def pair_positions(
+    qp: np.ndarray, qhalf: np.ndarray, rp: np.ndarray, rhalf: np.ndarray, tolerance: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """The pairing of :func:`match_bands` on arrays: positions (cm-1) and the half widths that
+    widen the reach of broad bands (0 for sharp ones). Returns query and reference indices of
+    the pairs, sorted by query index.
+
+    A band with exactly one partner in reach, whose partner has no other, is a pair in every
+    best pairing and is taken as it is. The bands left fall apart into small clusters that
+    share no band in reach: each cluster is solved on its own, which gives the same count and
+    total distance as solving them all at once. Where every pair has the same reach (no broad
+    band widens it), a best pairing never crosses (if a1 < a2 and b1 < b2, pairing a1-b1 and
+    a2-b2 keeps both in reach and costs no more than a1-b2 and a2-b1), so a cluster is solved
+    by a walk along both sorted lists; otherwise by the assignment solver.
+    """
     d = np.abs(qp[:, None] - rp[None, :])
-    qw = np.where(query.broad & np.isfinite(query.widths), query.widths / 2, 0.0)
-    rw = np.where(ref.broad & np.isfinite(ref.widths), ref.widths / 2, 0.0)
-    tol = np.maximum(tolerance, np.maximum(qw[:, None], rw[None, :]))
+    tol = np.maximum(tolerance, np.maximum(qhalf[:, None], rhalf[None, :]))
     ok = d <= tol
-    # A band with exactly one partner in reach, whose partner has no other, is a pair in every
-    # best pairing: taken as it is. Only the bands left (several partners in reach) go to the
-    # assignment solver; bands with none cannot pair.
     row_deg, col_deg = ok.sum(1), ok.sum(0)
     single = ok & (row_deg[:, None] == 1) & (col_deg[None, :] == 1)
     qi, rj = np.nonzero(single)
-    pairs = list(zip(qi.tolist(), rj.tolist()))
+    out_q, out_r = [qi], [rj]
     rest_q = np.flatnonzero((row_deg > 0) & ~single.any(1))
     rest_r = np.flatnonzero((col_deg > 0) & ~single.any(0))
     if rest_q.size and rest_r.size:
-        big = 1e6
-        sub = np.where(ok[np.ix_(rest_q, rest_r)], d[np.ix_(rest_q, rest_r)], big)
-        rows, cols = linear_sum_assignment(sub)
-        pairs += [(int(rest_q[i]), int(rest_r[j])) for i, j in zip(rows, cols) if sub[i, j] < big]
-        pairs.sort()
-    return pairs
+        sub_ok = ok[rest_q][:, rest_r]
+        sub_d = d[rest_q][:, rest_r]
+        uniform = not (qhalf[rest_q] > tolerance).any() and not (rhalf[rest_r] > tolerance).any()
+        solve = _solve_on_line if uniform else _solve_cluster
+        for rows, cols in _clusters(sub_ok):
+            cq, cr = solve(sub_ok[rows][:, cols], sub_d[rows][:, cols])
+            out_q.append(rest_q[rows[cq]])
+            out_r.append(rest_r[cols[cr]])
+    q_all = np.concatenate(out_q).astype(np.intp)
+    r_all = np.concatenate(out_r).astype(np.intp)
+    order = np.argsort(q_all, kind="stable")
+    return q_all[order], r_all[order]
+
+
+def _clusters(ok: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
+    """Connected parts of the bipartite graph ``ok`` (rows x columns, every row and column with
+    at least one edge): (row indices, column indices) of each.
+
+    Each row starts with its own label; rows and columns take the lowest label in reach until
+    nothing changes (as many rounds as the widest part is long).
+    """
+    n_rows, n_cols = ok.shape
+    big = n_rows + 1
+    row = np.arange(n_rows)
+    while True:
+        col = np.where(ok, row[:, None], big).min(0)
+        new = np.minimum(row, np.where(ok, col[None, :], big).min(1))
+        if (new == row).all():
+            break
+        row = new
+    return [(np.flatnonzero(row == k), np.flatnonzero(col == k)) for k in np.unique(row)]
+
+
+def _solve_on_line(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Best non-crossing pairing (most pairs, then least distance) of rows and columns sorted
+    by position: dynamic programming over the two lists' prefixes."""
+    okl, dl = ok.tolist(), d.tolist()
+    n, m = len(okl), len(okl[0])
+    count = [[0] * (m + 1) for _ in range(n + 1)]
+    cost = [[0.0] * (m + 1) for _ in range(n + 1)]
+    step = [[0] * (m + 1) for _ in range(n + 1)]  # 1: skip row, 2: skip column, 3: pair
+    for i in range(1, n + 1):
+        ci, ki, si = count[i], cost[i], step[i]
+        cu, ku = count[i - 1], cost[i - 1]
+        row_ok, row_d = okl[i - 1], dl[i - 1]
+        for j in range(1, m + 1):
+            bc, bk, bs = cu[j], ku[j], 1
+            if ci[j - 1] > bc or (ci[j - 1] == bc and ki[j - 1] < bk):
+                bc, bk, bs = ci[j - 1], ki[j - 1], 2
+            if row_ok[j - 1]:
+                pc, pk = cu[j - 1] + 1, ku[j - 1] + row_d[j - 1]
+                if pc > bc or (pc == bc and pk < bk):
+                    bc, bk, bs = pc, pk, 3
+            ci[j], ki[j], si[j] = bc, bk, bs
+    rows, cols = [], []
+    i, j = n, m
+    while i and j:
+        s = step[i][j]
+        if s == 3:
+            rows.append(i - 1)
+            cols.append(j - 1)
+            i, j = i - 1, j - 1
+        elif s == 1:
+            i -= 1
+        else:
+            j -= 1
+    return np.array(rows[::-1], dtype=np.intp), np.array(cols[::-1], dtype=np.intp)
+
+
+def _solve_cluster(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Best pairing of one cluster: most pairs, then least distance."""
+    if ok.shape[0] == 1 or ok.shape[1] == 1:  # one pair at most: the nearest in reach
+        flat = int(np.argmin(np.where(ok, d, np.inf)))
+        i, j = divmod(flat, ok.shape[1])
+        return np.array([i]), np.array([j])
+    from reflib.signal.assignment import linear_sum_assignment
+
+    big = 1e6
+    cost = np.where(ok, d, big)
+    rows, cols = linear_sum_assignment(cost)
+    keep = cost[rows, cols] < big
+    return rows[keep], cols[keep]
 
 
 @dataclass
@@ -422,49 +516,40 @@ def explain(
     *,
     tolerance: float = MATCH_TOLERANCE,
 ) -> Explanation:
-    """Matched, missing-in-the-unknown and new-in-the-unknown bands, outside masked regions."""
-    qmask = _weight_at(grid, w, query.positions) >= MASKED_BELOW
-    rmask = _weight_at(grid, w, ref.positions) >= MASKED_BELOW
-    qi = np.flatnonzero(qmask)
-    ri = np.flatnonzero(rmask)
-    qsub = _subset(query, qi)
-    rsub = _subset(ref, ri)
-    pairs = match_bands(qsub, rsub, tolerance=tolerance)
-    mq = {i for i, _ in pairs}
-    mr = {j for _, j in pairs}
-    matched = sorted(
-        ((float(qsub.positions[i]), float(rsub.positions[j])) for i, j in pairs), reverse=True
-    )
-    missing = [
-        float(rsub.positions[j])
-        for j in range(len(rsub))
-        if j not in mr and rsub.intensities[j] >= MIN_REPORTED_INTENSITY
-    ]
-    new = [
-        float(qsub.positions[i])
-        for i in range(len(qsub))
-        if i not in mq and qsub.intensities[i] >= MIN_REPORTED_INTENSITY
-    ]
-    strong_missing = sum(
-        1 for j in range(len(rsub)) if j not in mr and rsub.intensities[j] >= STRONG
-    )
-    strong_new = sum(1 for i in range(len(qsub)) if i not in mq and qsub.intensities[i] >= STRONG)
-    tq = np.sqrt(qsub.intensities)
-    tr = np.sqrt(rsub.intensities)
+    """Matched, missing-in-the-unknown and new-in-the-unknown bands, outside masked regions.
+
+    Intensities are relative to the strongest band left after the masks, on each side.
+    """
+    qi = np.flatnonzero(_weight_at(grid, w, query.positions) >= MASKED_BELOW)
+    ri = np.flatnonzero(_weight_at(grid, w, ref.positions) >= MASKED_BELOW)
+    qpos, rpos = query.positions[qi], ref.positions[ri]
+    qint, rint = _relative(query.intensities[qi]), _relative(ref.intensities[ri])
+    if qi.size and ri.size:
+        pq, pr = pair_positions(qpos, _half_broad(query)[qi], rpos, _half_broad(ref)[ri], tolerance)
+    else:
+        pq = pr = np.zeros(0, dtype=np.intp)
+    free_q = np.ones(qi.size, bool)
+    free_q[pq] = False
+    free_r = np.ones(ri.size, bool)
+    free_r[pr] = False
+    matched = sorted(zip(qpos[pq].tolist(), rpos[pr].tolist()), reverse=True)
+    tq, tr = np.sqrt(qint), np.sqrt(rint)
     total = tq.sum() + tr.sum()
-    got = sum(tq[i] + tr[j] for i, j in pairs)
+    got = tq[pq].sum() + tr[pr].sum()
     return Explanation(
         matched=matched,
-        missing=sorted(missing, reverse=True),
-        new=sorted(new, reverse=True),
-        strong_missing=strong_missing,
-        strong_new=strong_new,
+        missing=rpos[free_r & (rint >= MIN_REPORTED_INTENSITY)][::-1].tolist(),
+        new=qpos[free_q & (qint >= MIN_REPORTED_INTENSITY)][::-1].tolist(),
+        strong_missing=int((free_r & (rint >= STRONG)).sum()),
+        strong_new=int((free_q & (qint >= STRONG)).sum()),
         matched_strength=float(got / total) if total > 0 else 0.0,
     )
 
 
-def _subset(peaks: PeakList, idx: np.ndarray) -> PeakList:
-    return peaks.subset(idx)
+def _relative(intensities: np.ndarray) -> np.ndarray:
+    """Intensities relative to the strongest of them (as :class:`PeakList` keeps them)."""
+    top = intensities.max() if intensities.size else 0.0
+    return intensities / top if top > 0 and top != 1.0 else intensities
 
 
 # --- verdict -----------------------------------------------------------------------------------
