@@ -842,8 +842,12 @@ def band_labels(
     *,
     structure_ids: Iterable[str] | None = None,
     top: int = 2,
+    only: Iterable[float] | None = None,
 ) -> list[list[str]]:
     """Labels for every band of ``peaks`` (ascending order), consistent with the analysis.
+
+    With ``only`` (positions, cm-1, as in ``peaks``) just those bands are labelled and the
+    others get ``[]``; the analysis and the corroboration still use every band.
 
     A band that is evidence of a group called present is labelled with that group and role; one
     that is evidence of a possible group gets a ``?``; an overtone or a band of the preparation
@@ -878,8 +882,12 @@ def band_labels(
                 windows.append((e.window[0], e.window[1], text))
     fallback = _allowed_fallback(report, allowed)
     support = [float(x) for x in peaks.positions]
+    wanted = None if only is None else {float(x) for x in only}
     out: list[list[str]] = []
     for p in peaks:
+        if wanted is not None and p.position not in wanted:
+            out.append([])
+            continue
         if p.position in report.explained:
             out.append([report.explained[p.position]])
             continue

@@ -434,6 +434,7 @@ class Library:
         hits: list[Hit] = []
         explanations = []
         names = self._names([int(idx.compound_ids[i]) for i in picks])
+        stored = self.store.peaks_of_many(int(idx.spectrum_ids[i]) for i in picks[:top])
         for rank, i in enumerate(picks, start=1):
             sid = int(idx.spectrum_ids[i])
             cid = int(idx.compound_ids[i])
@@ -442,7 +443,7 @@ class Library:
                 explanations.append((None, sid, g))
                 hits.append(Hit(rank, names[cid][0], cid, sid, float(scores[i]), names[cid][1]))
                 continue
-            ref_peaks = comparable_peaks(self.store.peaks_of(sid), g.prep, enc)
+            ref_peaks = comparable_peaks(stored[sid], g.prep, enc)
             w = comparison_weights(
                 enc, tokens, g.prep, qrange, (g.lo, g.hi), profile, _holes(peaks)
             )
@@ -664,7 +665,8 @@ def _annotate(hits: list[Hit], query: PeakList) -> None:
         return  # nothing to label: skip the table look-ups (about 20 ms a query)
     from reflib.chem.groups import band_texts
 
-    labels = dict(zip(query.positions.tolist(), band_texts(query)))
+    new = {pos for h in hits for pos in h.new}
+    labels = dict(zip(query.positions.tolist(), band_texts(query, only=new)))
     for h in hits:
         for pos in h.new:
             text = labels.get(pos)

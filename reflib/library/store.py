@@ -34,7 +34,7 @@ import sqlite3
 import time
 import uuid
 import zlib
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -628,12 +628,33 @@ class Store:
         return frozenset(r[0] for r in rows)
 
     def peaks_of(self, spectrum_id: int) -> PeakList:
-        rows = self.conn.execute(
-            "SELECT position, intensity, width, strength, broad, shoulder, label FROM peaks "
-            "WHERE spectrum_id = ? ORDER BY position",
-            (int(spectrum_id),),
-        ).fetchall()
-        return peaks_from_rows(rows, self.spectrum_record(spectrum_id))
+        """The stored bands of one spectrum (:class:`NotFoundError` if there is no such id)."""
+        return self.peaks_of_many([spectrum_id])[int(spectrum_id)]
+
+    def peaks_of_many(self, spectrum_ids: Iterable[int]) -> dict[int, PeakList]:
+        """The stored bands of several spectra, by id, read with two queries (the spectra's
+        ``meta`` and ``prep`` columns, not their stored traces, and their band rows)."""
+        ids = sorted({int(i) for i in spectrum_ids})
+        if not ids:
+            return {}
+        marks = ",".join("?" * len(ids))
+        recs = {
+            r[0]: {"meta": r[1], "prep": r[2]}
+            for r in self.conn.execute(
+                f"SELECT id, meta, prep FROM spectra WHERE id IN ({marks})", ids
+            )
+        }
+        missing = [i for i in ids if i not in recs]
+        if missing:
+            raise NotFoundError(f"no spectrum {missing[0]} in the library")
+        rows: dict[int, list] = {i: [] for i in ids}
+        for r in self.conn.execute(
+            "SELECT spectrum_id, position, intensity, width, strength, broad, shoulder, label "
+            f"FROM peaks WHERE spectrum_id IN ({marks}) ORDER BY spectrum_id, position",
+            ids,
+        ):
+            rows[r[0]].append(r[1:])
+        return {i: peaks_from_rows(rows[i], recs[i]) for i in ids}
 
     def full_spectrum(self, spectrum_id: int) -> Spectrum | None:
         rec = self.spectrum_record(spectrum_id)

@@ -186,3 +186,16 @@ def test_mull_oil_regions_give_no_evidence() -> None:
     assert "preparation" in rep.explained[2924.0]
     assert rep.call("alkyl C-H").call != "present"
     assert rep.call("ketone").call == "present"
+
+
+def test_labels_of_some_bands_are_those_of_the_full_labelling() -> None:
+    """Labelling only some bands (what a search report needs) gives those bands the labels the
+    full labelling gives them: the other bands still corroborate (ester C=O 1742 with C-O 1240,
+    handbook values from memory)."""
+    pl = _pl([*ALKYL, (1742, 1.0), (1240, 0.9), (1050, 0.5), (750, 0.4), (3400, 0.3)])
+    full = groups.band_labels(pl)
+    some = groups.band_labels(pl, only=[1742.0, 750.0])
+    pos = pl.positions.tolist()
+    for p, a, b in zip(pos, full, some):
+        assert b == (a if p in (1742.0, 750.0) else []), p
+    assert any("ester" in t for t in some[pos.index(1742.0)])

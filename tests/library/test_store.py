@@ -88,6 +88,36 @@ def test_spectrum_round_trip_with_full_arrays(tmp_path):
         s.load_vectors("other-key")
 
 
+def test_peaks_of_many_reads_each_spectrum_as_peaks_of_does(tmp_path):
+    """Several spectra's bands read in one go are those read one by one, each with its own
+    preparation; an unknown id is refused (common practice, no source)."""
+    s = Store.create(tmp_path / "lib.sqlite")
+    lists = [
+        PeakList([1715.0, 2950.0], [1.0, 0.4]),
+        PeakList([3300.0, 1050.0, 2900.0], [0.8, 1.0, 0.5], widths=[250.0, 12.0, 15.0]),
+        PeakList([], []),
+    ]
+    with s.write():
+        cid = s.insert_compound({"name": "a", "role": "other"})
+        sids = [
+            s.insert_spectrum(cid, p, p, encode(p), s.encoding.key(), prep=[prep])
+            for p, prep in zip(lists, ["film", "atr", "kbr"])
+        ]
+    many = s.peaks_of_many(reversed(sids))
+    assert sorted(many) == sorted(sids)
+    for sid, prep in zip(sids, ["film", "atr", "kbr"]):
+        one = s.peaks_of(sid)
+        assert many[sid].meta.prep == one.meta.prep == [prep]
+        assert np.array_equal(many[sid].positions, one.positions)
+        assert np.array_equal(many[sid].intensities, one.intensities)
+        assert np.array_equal(many[sid].widths, one.widths, equal_nan=True)
+    assert many[sids[1]].positions.tolist() == [1050.0, 2900.0, 3300.0]
+    assert len(many[sids[2]]) == 0
+    assert s.peaks_of_many([]) == {}
+    with pytest.raises(NotFoundError, match="no spectrum"):
+        s.peaks_of_many([sids[0], 999])
+
+
 def test_find_compound_by_id_name_alias_and_case(tmp_path):
     s = Store.create(tmp_path / "lib.sqlite")
     with s.write():
