@@ -393,8 +393,9 @@ def pair_positions(
     qp: np.ndarray, qhalf: np.ndarray, rp: np.ndarray, rhalf: np.ndarray, tolerance: float
 ) -> tuple[np.ndarray, np.ndarray]:
     """The pairing of :func:`match_bands` on arrays: positions (cm-1) and the half widths that
-    widen the reach of broad bands (0 for sharp ones). Returns query and reference indices of
-    the pairs, sorted by query index.
+    widen the reach of broad bands (0 for sharp ones), each side in ascending order of
+    position (as :class:`PeakList` keeps them). Returns query and reference indices of the
+    pairs, sorted by query index.
 
     A band with exactly one partner in reach, whose partner has no other, is a pair in every
     best pairing and is taken as it is. The bands left fall apart into small clusters that
@@ -416,16 +417,52 @@ def pair_positions(
     if rest_q.size and rest_r.size:
         sub_ok = ok[rest_q][:, rest_r]
         sub_d = d[rest_q][:, rest_r]
-        uniform = not (qhalf[rest_q] > tolerance).any() and not (rhalf[rest_r] > tolerance).any()
-        solve = _solve_on_line if uniform else _solve_cluster
-        for rows, cols in _clusters(sub_ok):
-            cq, cr = solve(sub_ok[rows][:, cols], sub_d[rows][:, cols])
-            out_q.append(rest_q[rows[cq]])
-            out_r.append(rest_r[cols[cr]])
+        uniform = (
+            not (qhalf[rest_q] > tolerance).any()
+            and not (rhalf[rest_r] > tolerance).any()
+            and not (np.diff(qp) < 0).any()
+            and not (np.diff(rp) < 0).any()
+        )
+        if uniform:
+            cq, cr = _pair_on_line(sub_ok, sub_d)
+            out_q.append(rest_q[cq])
+            out_r.append(rest_r[cr])
+        else:
+            for rows, cols in _clusters(sub_ok):
+                cq, cr = _solve_cluster(sub_ok[rows][:, cols], sub_d[rows][:, cols])
+                out_q.append(rest_q[rows[cq]])
+                out_r.append(rest_r[cols[cr]])
     q_all = np.concatenate(out_q).astype(np.intp)
     r_all = np.concatenate(out_r).astype(np.intp)
     order = np.argsort(q_all, kind="stable")
     return q_all[order], r_all[order]
+
+
+def _pair_on_line(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Best pairing when every pair has the same reach, rows and columns sorted by position
+    and each with a partner in reach: row i then reaches one run of columns [a_i, b_i], and
+    both ends move up with i, so the clusters are runs of rows whose column runs overlap.
+    Each is solved by :func:`_solve_on_line` (one row or one column: its nearest partner)."""
+    n, m = ok.shape
+    first = ok.argmax(1)
+    last = m - 1 - ok[:, ::-1].argmax(1)
+    breaks = (np.flatnonzero(first[1:] > last[:-1]) + 1).tolist()
+    first_l, last_l = first.tolist(), last.tolist()
+    okl, dl = ok.tolist(), d.tolist()
+    rows: list[int] = []
+    cols: list[int] = []
+    for r0, r1 in zip([0, *breaks], [*breaks, n]):
+        c0, c1 = first_l[r0], last_l[r1 - 1] + 1
+        if r1 - r0 == 1:  # one row: its nearest column in reach
+            row = dl[r0]
+            rows.append(r0)
+            cols.append(min(range(c0, c1), key=row.__getitem__))
+        elif c1 - c0 == 1:  # one column: its nearest row
+            rows.append(min(range(r0, r1), key=lambda k: dl[k][c0]))
+            cols.append(c0)
+        else:
+            _solve_on_line(okl, dl, r0, r1, c0, c1, rows, cols)
+    return np.array(rows, dtype=np.intp), np.array(cols, dtype=np.intp)
 
 
 def _clusters(ok: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
@@ -447,40 +484,43 @@ def _clusters(ok: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
     return [(np.flatnonzero(row == k), np.flatnonzero(col == k)) for k in np.unique(row)]
 
 
-def _solve_on_line(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Best non-crossing pairing (most pairs, then least distance) of rows and columns sorted
-    by position: dynamic programming over the two lists' prefixes."""
-    okl, dl = ok.tolist(), d.tolist()
-    n, m = len(okl), len(okl[0])
+def _solve_on_line(
+    ok: list, d: list, r0: int, r1: int, c0: int, c1: int, rows: list, cols: list
+) -> None:
+    """Best non-crossing pairing (most pairs, then least distance) of rows r0..r1-1 and
+    columns c0..c1-1 (nested lists, sorted by position), appended to ``rows`` and ``cols``:
+    dynamic programming over the two lists' prefixes."""
+    n, m = r1 - r0, c1 - c0
     count = [[0] * (m + 1) for _ in range(n + 1)]
     cost = [[0.0] * (m + 1) for _ in range(n + 1)]
     step = [[0] * (m + 1) for _ in range(n + 1)]  # 1: skip row, 2: skip column, 3: pair
     for i in range(1, n + 1):
         ci, ki, si = count[i], cost[i], step[i]
         cu, ku = count[i - 1], cost[i - 1]
-        row_ok, row_d = okl[i - 1], dl[i - 1]
+        row_ok, row_d = ok[r0 + i - 1], d[r0 + i - 1]
         for j in range(1, m + 1):
             bc, bk, bs = cu[j], ku[j], 1
             if ci[j - 1] > bc or (ci[j - 1] == bc and ki[j - 1] < bk):
                 bc, bk, bs = ci[j - 1], ki[j - 1], 2
-            if row_ok[j - 1]:
-                pc, pk = cu[j - 1] + 1, ku[j - 1] + row_d[j - 1]
+            if row_ok[c0 + j - 1]:
+                pc, pk = cu[j - 1] + 1, ku[j - 1] + row_d[c0 + j - 1]
                 if pc > bc or (pc == bc and pk < bk):
                     bc, bk, bs = pc, pk, 3
             ci[j], ki[j], si[j] = bc, bk, bs
-    rows, cols = [], []
+    found: list[tuple[int, int]] = []
     i, j = n, m
     while i and j:
         s = step[i][j]
         if s == 3:
-            rows.append(i - 1)
-            cols.append(j - 1)
+            found.append((r0 + i - 1, c0 + j - 1))
             i, j = i - 1, j - 1
         elif s == 1:
             i -= 1
         else:
             j -= 1
-    return np.array(rows[::-1], dtype=np.intp), np.array(cols[::-1], dtype=np.intp)
+    for a, b in reversed(found):
+        rows.append(a)
+        cols.append(b)
 
 
 def _solve_cluster(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

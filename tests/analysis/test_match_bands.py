@@ -36,3 +36,30 @@ def test_match_bands_is_a_best_pairing():
         assert len(pairs) == count
         assert abs(sum(d) - total) < 1e-6
         assert pairs == sorted(pairs)
+
+
+def test_pairing_with_broad_bands_and_any_order_is_a_best_pairing():
+    """Broad bands reach half their width, and positions in any order: still a best pairing
+    (checked against SciPy's solver of the whole problem)."""
+    from reflib.analysis.search import pair_positions
+
+    rng = np.random.default_rng(23)
+    for _ in range(150):
+        n, m = int(rng.integers(1, 30)), int(rng.integers(1, 30))
+        qp, rp = np.round(rng.uniform(600, 1800, n)), np.round(rng.uniform(600, 1800, m))
+        qhalf = np.where(rng.random(n) < 0.15, rng.uniform(10, 60, n), 0.0)
+        rhalf = np.where(rng.random(m) < 0.15, rng.uniform(10, 60, m), 0.0)
+        if rng.random() < 0.5:  # sorted, as PeakList keeps them, half of the time
+            oq, orr = np.argsort(qp), np.argsort(rp)
+            qp, qhalf, rp, rhalf = qp[oq], qhalf[oq], rp[orr], rhalf[orr]
+        qi, rj = pair_positions(qp, qhalf, rp, rhalf, MATCH_TOLERANCE)
+        assert len(set(qi.tolist())) == qi.size == len(set(rj.tolist()))
+        d = np.abs(qp[:, None] - rp[None, :])
+        reach = np.maximum(MATCH_TOLERANCE, np.maximum(qhalf[:, None], rhalf[None, :]))
+        assert (d[qi, rj] <= reach[qi, rj]).all()
+        cost = np.where(d <= reach, d, 1e6)
+        rows, cols = linear_sum_assignment(cost)
+        keep = cost[rows, cols] < 1e6
+        assert qi.size == int(keep.sum())
+        assert abs(d[qi, rj].sum() - cost[rows, cols][keep].sum()) < 1e-6
+        assert (np.diff(qi) > 0).all()
