@@ -53,6 +53,7 @@ import io
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
+from functools import lru_cache
 from importlib import resources
 from types import MappingProxyType
 
@@ -343,15 +344,26 @@ def weight_profile(
     taper = float(taper_cm1)
     if not math.isfinite(taper) or taper < 0:
         raise ValidationError(f"taper_cm1 must be a finite number >= 0 cm-1, got {taper_cm1!r}")
-    profile = np.ones_like(grid)
-    for region in regions_for(tokens, air=air):
-        outside = np.maximum(np.maximum(region.lo - grid, grid - region.hi), 0.0)
-        if taper > 0:
-            ramp = np.clip(outside / taper, 0.0, 1.0)
-        else:
-            ramp = (outside > 0).astype(float)
-        np.minimum(profile, region.weight + (1.0 - region.weight) * ramp, out=profile)
-    return profile
+    key = tokens if tokens is None or isinstance(tokens, str) else tuple(tokens)
+    lo, hi, weight = _region_arrays(key, air)
+    if lo.size == 0:
+        return np.ones_like(grid)
+    outside = np.maximum(np.maximum(lo - grid[None, :], grid[None, :] - hi), 0.0)
+    ramp = np.clip(outside / taper, 0.0, 1.0) if taper > 0 else (outside > 0).astype(float)
+    return np.minimum(1.0, (weight + (1.0 - weight) * ramp).min(0))
+
+
+@lru_cache(maxsize=256)
+def _region_arrays(
+    tokens: str | tuple[str, ...] | None, air: bool
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """lo, hi and weight of :func:`regions_for` as column arrays (one row per region)."""
+    regions = regions_for(tokens, air=air)
+    cols = [
+        np.array([getattr(r, k) for r in regions], dtype=float)[:, None]
+        for k in ("lo", "hi", "weight")
+    ]
+    return cols[0], cols[1], cols[2]
 
 
 def _weight_class(weight: float) -> int:
