@@ -256,12 +256,13 @@ class PeakList:
         n = pos.size
         if inten.size != n:
             raise ValidationError(f"{n} positions but {inten.size} intensities")
-        if np.any(pos <= 0):
+        if (pos <= 0).any():
             raise ValidationError("band positions must be positive cm-1")
-        if np.any(inten < 0):
+        if (inten < 0).any():
             raise ValidationError("relative intensities must not be negative")
-        if n and inten.max() > 0 and inten.max() != 1.0:
-            inten = inten / inten.max()
+        top = inten.max() if n else 0.0
+        if top > 0 and top != 1.0:
+            inten = inten / top
         widths = (
             np.full(n, np.nan)
             if self.widths is None
@@ -269,7 +270,7 @@ class PeakList:
         )
         if widths.size != n:
             raise ValidationError(f"{n} positions but {widths.size} widths")
-        if np.any(widths[np.isfinite(widths)] <= 0):
+        if (widths <= 0).any():  # NaN (width unknown) compares False
             raise ValidationError("band widths must be positive cm-1")
         strengths = (
             [strength_word(v) for v in inten]
@@ -278,11 +279,12 @@ class PeakList:
         )
         if len(strengths) != n:
             raise ValidationError(f"{n} positions but {len(strengths)} strength words")
-        for s in strengths:
-            if s not in STRENGTH_WORDS:
-                raise ValidationError(
-                    f"unknown strength word {s!r}; expected one of {', '.join(STRENGTH_WORDS)}"
-                )
+        unknown = set(strengths).difference(STRENGTH_WORDS)
+        if unknown:
+            s = next(w for w in strengths if w in unknown)
+            raise ValidationError(
+                f"unknown strength word {s!r}; expected one of {', '.join(STRENGTH_WORDS)}"
+            )
         broad = np.zeros(n, bool) if self.broad is None else np.asarray(self.broad, bool)
         shoulder = np.zeros(n, bool) if self.shoulder is None else np.asarray(self.shoulder, bool)
         if broad.size != n or shoulder.size != n:
@@ -290,6 +292,15 @@ class PeakList:
         labels = None if self.labels is None else [_clean_label(v) for v in self.labels]
         if labels is not None and len(labels) != n:
             raise ValidationError(f"{n} positions but {len(labels)} labels")
+        if n < 2 or not (pos[1:] < pos[:-1]).any():  # already ascending: nothing to reorder
+            self.positions, self.intensities, self.widths = pos, inten, widths
+            self.strengths, self.broad, self.shoulder, self.labels = (
+                strengths,
+                broad,
+                shoulder,
+                labels,
+            )
+            return
         order = np.argsort(pos, kind="stable")
         self.positions = pos[order]
         self.intensities = inten[order]
