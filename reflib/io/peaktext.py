@@ -416,6 +416,47 @@ def _split_items(inner: str, offset: int) -> list[tuple[str, int]]:
     return items
 
 
+_BRACKET = re.compile(r"[()\[\]]")
+
+
+@functools.lru_cache(maxsize=4096)
+def _read_parenthesis(
+    inner: str, original: str
+) -> tuple[tuple[tuple[str, int], ...], tuple[str, ...], tuple[str, str, int] | None]:
+    """The inside of a band's parenthesis (``inner`` normalised, ``original`` as typed, of the
+    same length): its descriptor words with their offsets in ``inner``, the author's labels,
+    and the first problem found as (kind, chunk, offset), kind ``number``, ``unknown`` or
+    ``alone`` (assignment words that name no group), or None.
+
+    The same few parentheses (``(s)``, ``(m, br)``) come back in every list: cached.
+    """
+    descriptors: list[tuple[str, int]] = []
+    labels: list[str] = []
+    assigned: list[tuple[str, int, str]] = []  # chunk, start, kind
+    for item, offset in _split_items(inner, 0):
+        parts = []
+        for m in _CHUNK.finditer(item):
+            chunk, start = m.group(0), offset + m.start()
+            kind = _chunk_kind(chunk)
+            if kind == "descriptor":
+                descriptors.append((chunk, start))
+            elif kind in ("number", "unknown"):
+                return (), (), (kind, chunk, start)
+            elif kind != "unit":
+                parts.append((start, start + len(chunk), kind))
+                assigned.append((chunk, start, kind))
+        if parts:
+            inside = [p for p in parts if p[2] != "descriptor"]
+            text = original[inside[0][0] : inside[-1][1]]
+            if any(inside[0][0] < d < inside[-1][1] for _, d in descriptors):
+                text = " ".join(original[a:b] for a, b, _ in inside)
+            labels.append(" ".join(text.split()))
+    if assigned and not any(kind == "group" for _, _, kind in assigned):
+        chunk, start, _ = assigned[0]
+        return (), (), ("alone", chunk, start)
+    return tuple(descriptors), tuple(labels), None
+
+
 class _Parser:
     def __init__(self, text: str, source: str | None):
         self.original = text
@@ -520,63 +561,40 @@ class _Parser:
 
     def parenthesis(self, tok: _Tok, band_text: str) -> tuple[list[_Tok], list[str]]:
         """Descriptor words and assignment texts of the parenthesis opened by ``tok``."""
-        depth, k, limit = 0, tok.start, len(self.text)
+        limit = len(self.text)
         if self.stop < len(self.toks):
             limit = self.toks[self.stop].start
-        close = -1
-        while k < limit:
-            ch = self.text[k]
-            if ch in "([":
+        depth, close = 0, -1
+        for m in _BRACKET.finditer(self.text, tok.start, limit):
+            if m.group() in "([":
                 depth += 1
-            elif ch in ")]":
+            else:
                 depth -= 1
                 if depth == 0:
-                    close = k
+                    close = m.start()
                     break
-            k += 1
         if close < 0:
             raise self.error(f"'{tok.text}' is never closed", tok.start)
-        while self.i < self.stop and self.toks[self.i].start <= close:
-            self.i += 1
-        descriptors: list[_Tok] = []
-        labels: list[str] = []
-        assigned: list[tuple[str, int, str]] = []  # chunk, start, kind
-        for item, offset in _split_items(self.text[tok.start + 1 : close], tok.start + 1):
-            parts = []
-            for m in _CHUNK.finditer(item):
-                chunk, start = m.group(0), offset + m.start()
-                kind = _chunk_kind(chunk)
-                if kind == "descriptor":
-                    descriptors.append(_Tok("word", chunk, start))
-                elif kind == "number":
-                    raise self.error(
-                        f"number {chunk!r} in parentheses after band {band_text}: reflib reads "
-                        f"strengths as words ({_ALLOWED}), not numbers",
-                        start,
-                    )
-                elif kind == "unknown":
-                    raise self.error(
-                        f"unknown word {chunk!r} after band {band_text}; allowed: {_ALLOWED}, "
-                        f"{_ASSIGNMENT_HINT}",
-                        start,
-                    )
-                elif kind != "unit":
-                    parts.append((start, start + len(chunk), kind))
-                    assigned.append((chunk, start, kind))
-            if parts:
-                inside = [p for p in parts if p[2] != "descriptor"]
-                text = self.original[inside[0][0] : inside[-1][1]]
-                if any(d.start > inside[0][0] and d.start < inside[-1][1] for d in descriptors):
-                    text = " ".join(self.original[a:b] for a, b, _ in inside)
-                labels.append(" ".join(text.split()))
-        if assigned and not any(kind == "group" for _, _, kind in assigned):
-            chunk, start, _ = assigned[0]
+        self.i = max(self.i, bisect.bisect_right(self.starts, close, self.i, self.stop))
+        begin = tok.start + 1
+        words, labels, problem = _read_parenthesis(
+            self.text[begin:close], self.original[begin:close]
+        )
+        if problem is not None:
+            kind, chunk, at = problem
+            if kind == "number":
+                raise self.error(
+                    f"number {chunk!r} in parentheses after band {band_text}: reflib reads "
+                    f"strengths as words ({_ALLOWED}), not numbers",
+                    begin + at,
+                )
+            extra = f" (a word such as {chunk!r} alone names no group)" if kind == "alone" else ""
             raise self.error(
                 f"unknown word {chunk!r} after band {band_text}; allowed: {_ALLOWED}, "
-                f"{_ASSIGNMENT_HINT} (a word such as {chunk!r} alone names no group)",
-                start,
+                f"{_ASSIGNMENT_HINT}{extra}",
+                begin + at,
             )
-        return descriptors, labels
+        return [_Tok("word", w, begin + at) for w, at in words], list(labels)
 
     def descriptors(self, band_text: str) -> tuple[list[_Tok], list[str], bool]:
         """Words after a band, bare or in parentheses, the author's labels found in its
