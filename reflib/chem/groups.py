@@ -37,7 +37,7 @@ from __future__ import annotations
 import csv
 import math
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
@@ -871,6 +871,8 @@ def band_labels(
             continue
         if confirm[c.group] and not (report.elements and confirm[c.group] <= report.elements):
             continue  # a halogen is named only when the formula (or structure) holds it
+        if c.call == "possible" and _c_o_unseen(c):
+            continue  # a carbonyl compound is not named from its other bands alone
         mark = "" if c.call == "present" else "?"
         for e in c.evidence:
             if e.need == "clean":
@@ -883,6 +885,7 @@ def band_labels(
     fallback = _allowed_fallback(report, allowed)
     support = [float(x) for x in peaks.positions]
     wanted = None if only is None else {float(x) for x in only}
+    minor_co = _minor_co(report, top)
     out: list[list[str]] = []
     for p in peaks:
         if wanted is not None and p.position not in wanted:
@@ -900,7 +903,7 @@ def band_labels(
         if len(found) > 1:  # the class names the C=O better than "carbonyl"
             found = [t for t in found if not t.startswith("carbonyl ")] or found
         if found:
-            out.append(found[:top])
+            out.append(minor_co(p, found[:top]))
             continue
         cands = bands.candidates(
             p.position,
@@ -912,8 +915,88 @@ def band_labels(
             groups=fallback,
             support=support,
         )
+        cands = [a for a in cands if _carbonyl_seen(a.id, report.phase, peaks.positions)]
         best = cands[0].score if cands else 0.0
-        out.append([f"{a.short}?" for a in cands if a.score >= 0.5 * best])
+        out.append(minor_co(p, [f"{a.short}?" for a in cands if a.score >= 0.5 * best]))
+    return out
+
+
+#: Relative intensity below which a band in the C=O region of a spectrum whose compound has no
+#: carbonyl reads as another compound's C=O: a compound's own C=O stretch is among its strongest
+#: bands (from memory, any handbook correlation chart; the bound is common practice, no source).
+MINOR_CO_BELOW = 0.25
+MINOR_CO_LABEL = "C=O of a minor component?"
+
+
+def _minor_co(report: GroupReport, top: int) -> Callable[[Any, list[str]], list[str]]:
+    """A function adding :data:`MINOR_CO_LABEL` to a weak band's labels in the C=O region when
+    the analysis called the carbonyl class absent (leftover starting material, an oxidised
+    trace or an overtone, not the compound's own group). Condensed phase only (a crude; in the
+    gas phase such weak bands are mostly overtones and combinations), and not when the formula
+    given holds no oxygen."""
+    no_oxygen = report.elements is not None and "O" not in report.elements
+    if report.phase != "condensed" or no_oxygen or report.call("carbonyl").call != "absent":
+        return lambda p, labels: labels
+    lo = min(w[0] for w in _co_windows(report.phase))
+    hi = max(w[1] for w in _co_windows(report.phase))
+
+    def add(p: Any, labels: list[str]) -> list[str]:
+        if lo <= p.position <= hi and p.intensity < MINOR_CO_BELOW and not p.broad:
+            return [*labels[: top - 1], MINOR_CO_LABEL]
+        return labels
+
+    return add
+
+
+@lru_cache(maxsize=4)
+def _co_windows(phase: str) -> tuple[tuple[float, float], ...]:
+    """The windows (cm-1) of the table's C=O stretch rows in ``phase``."""
+    return tuple(
+        r.range_for(phase)
+        for r in bands.table()
+        if r.in_phase(phase) and r.kind == "band" and r.expect.startswith("co") and "C=O" in r.label
+    )
+
+
+def _c_o_unseen(call: GroupCall) -> bool:
+    """Whether a group's evidence has a C=O stretch and none of its C=O stretches is seen."""
+    roles = [e for e in call.evidence if "C=O" in e.role]
+    return bool(roles) and not any(e.seen for e in roles)
+
+
+def _carbonyl_seen(row_id: str, phase: str, positions: Any) -> bool:
+    """Whether a table row other than a C=O stretch may name a band: a carbonyl compound's
+    other bands (a carbonate's O-C-O, an ester's C-O, a ketone's C-C(=O)-C) only when the
+    spectrum has a band where that compound's C=O stretch would be (its strongest band, the
+    one that shows the class; from memory, any handbook correlation chart)."""
+    windows = _carbonyl_windows(phase).get(row_id)
+    if windows is None:
+        return True
+    return any(((positions >= lo) & (positions <= hi)).any() for lo, hi in windows)
+
+
+@lru_cache(maxsize=4)
+def _carbonyl_windows(phase: str) -> dict[str, tuple[tuple[float, float], ...]]:
+    """Row id -> the windows (cm-1, widened by the position tolerance) of the C=O stretch rows
+    of the row's groups, for the rows that are not themselves a C=O stretch and belong to a
+    group with one."""
+    rows = [r for r in bands.table() if r.in_phase(phase)]
+    by_group: dict[str, list[tuple[float, float]]] = {}
+    co_rows = set()
+    for r in rows:
+        if r.kind == "band" and r.expect.startswith("co") and "C=O" in r.label:
+            co_rows.add(r.id)
+            lo, hi = r.range_for(phase)
+            tol = bands.position_tolerance((lo + hi) / 2)
+            for g in r.groups:
+                by_group.setdefault(g, []).append((lo - tol, hi + tol))
+    out: dict[str, tuple[tuple[float, float], ...]] = {}
+    for r in rows:
+        if r.id in co_rows or r.kind != "band":
+            continue
+        windows = [w for g in r.groups for w in by_group.get(g, [])]
+        if windows:
+            out[r.id] = tuple(windows)
     return out
 
 
