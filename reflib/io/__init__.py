@@ -51,6 +51,11 @@ def _read_text(path: str | Path) -> tuple[str, str]:
     return text, digest
 
 
+#: File name endings of JCAMP-DX. The content decides the reader; these only let an error
+#: say that a file so named is not JCAMP-DX.
+JCAMP_SUFFIXES = frozenset({".jdx", ".dx", ".jcamp", ".jcm"})
+
+
 def sniff_format(text: str) -> str:
     """Name the format of ``text``: ``'jcamp'``, ``'peaktext'`` or ``'delimited'``."""
     from reflib.io import peaktext
@@ -99,6 +104,12 @@ def read_all(path: str | Path, *, y_kind: str | None = None) -> list[Readable]:
     except ReadError as exc:
         if exc.path is None:
             exc.path = str(p)
+        if p.suffix.lower() in JCAMP_SUFFIXES and sniff_format(text) != "jcamp":
+            exc.message += (  # the content decides the reader; the name only explains
+                f" (the name ends in {p.suffix}, but the file holds no JCAMP-DX labels such as "
+                "##TITLE=: a truncated file, or another format renamed?)"
+            )
+            exc.args = (exc.message,)
         raise
     return _stamp(objs, p, digest)
 

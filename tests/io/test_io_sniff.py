@@ -164,3 +164,17 @@ def test_peak_list_text_sniffs_as_peaktext_and_reads_back(pl):
     assert back.strengths == pl.strengths
     assert back.broad.tolist() == pl.broad.tolist()
     assert back.shoulder.tolist() == pl.shoulder.tolist()
+
+
+def test_a_jcamp_name_without_jcamp_content_says_so(tmp_path):
+    """A file named .jdx that holds neither JCAMP-DX labels (##LABEL=, JCAMP-DX specification,
+    from memory) nor readable columns: the error says it is not JCAMP-DX."""
+    path = tmp_path / "truncated.jdx"
+    path.write_text("garbage\n", encoding="utf-8")
+    with pytest.raises(ReadError, match=r"ends in \.jdx, but the file holds no JCAMP-DX labels"):
+        read_spectrum(path)
+    other = tmp_path / "garbage.csv"
+    other.write_text("garbage\n", encoding="utf-8")
+    with pytest.raises(ReadError) as err:
+        read_spectrum(other)
+    assert "JCAMP-DX" not in str(err.value)
