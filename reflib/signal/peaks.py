@@ -77,6 +77,7 @@ import numpy as np
 from reflib.errors import ValidationError
 from reflib.signal import filters1d
 from reflib.signal.peakfind import find_peaks, local_maxima, peak_widths, select_by_distance
+from reflib.signal.pedestal import broad_beneath
 from reflib.spectrum import MIN_TRANSMITTANCE, PeakList, Spectrum, strength_word
 
 #: Baseline methods understood by :func:`baseline` and :func:`pick_peaks`.
@@ -623,6 +624,19 @@ def pick_peaks(
     # but left out of the comparison (see reflib.analysis.encode.comparable_peaks).
     shoulder = np.concatenate([np.zeros(idx.size, bool), np.ones(s_idx.size, bool)])
     positions = np.interp(frac, np.arange(x.size, dtype=float), x)
+
+    # Broad bands beneath sharp ones (the H-bonded O-H under a terminal alkyne's C-H), which
+    # have no maximum of their own: from an opening of the trace (reflib.signal.pedestal).
+    limit = np.where(positions > broad_split_cm1, broad_fwhm_cm1, broad_fwhm_low_cm1)
+    b_pos, b_h, b_w = broad_beneath(
+        x, ys, float(noise.min()), positions, np.nan_to_num(fwhm, nan=0.0) > limit, min_snr=min_snr
+    )
+    if b_pos.size:
+        positions = np.concatenate([positions, b_pos])
+        heights = np.concatenate([heights, b_h])
+        fwhm = np.concatenate([fwhm, b_w])
+        saturated = np.concatenate([saturated, np.zeros(b_pos.size, bool)])
+        shoulder = np.concatenate([shoulder, np.zeros(b_pos.size, bool)])
 
     order = np.argsort(-heights, kind="stable")
     top = heights[order[0]]
