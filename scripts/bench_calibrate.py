@@ -6,7 +6,8 @@ One command, not a test::
     python scripts/bench_calibrate.py            # 1 000 and 10 000 references
     python scripts/bench_calibrate.py --quick    # 300 and 1 000 references
 
-For each size, in one run: the calibration's wall time (neighbour pass and queries together), and
+For each size, in one run: the calibration's wall time (neighbour pass and queries together,
+also as a multiple of one uncalibrated search timed in the same run), and
 the median latency of ``lib.search`` on the same queries without and with the stored model
 (interleaved rounds, the model removed and restored between them), as a ratio (the calibrated
 verdict adds one row look-up and a few dozen multiplications per search).
@@ -73,6 +74,8 @@ def one_size(n: int, work: Path, n_queries: int) -> dict:
         "search_before_ms": 1000 * before,
         "search_after_ms": 1000 * after,
         "ratio": after / before,
+        # the calibration's cost in units of one uncalibrated search measured in this run
+        "searches_worth": t_cal / before,
     }
 
 
@@ -90,7 +93,8 @@ def main(argv: list[str] | None = None) -> int:
             r = rows[-1]
             print(
                 f"{n:6d} references: calibrate {r['calibrate_s']:6.1f} s ({r['queries']} "
-                f"queries); search {r['search_before_ms']:.1f} ms -> {r['search_after_ms']:.1f} "
+                f"queries, as long as {r['searches_worth']:.0f} searches); "
+                f"search {r['search_before_ms']:.1f} ms -> {r['search_after_ms']:.1f} "
                 f"ms per query (x{r['ratio']:.2f}, target <= x{MAX_SEARCH_RATIO:.2f}: "
                 f"{bench_speed.ok(r['ratio'] <= MAX_SEARCH_RATIO)})"
             )

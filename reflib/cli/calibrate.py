@@ -58,12 +58,20 @@ def describe(model, seconds: float | None = None) -> list[str]:
     cmp = m.get("model_comparison")
     if cmp:
         out.append(
-            "model comparison on the same held-out compounds (calibration error / Brier): "
-            f"logistic {cmp['logistic_ece']:.3f}/{cmp['logistic_brier']:.3f}, "
-            f"logistic+isotonic {cmp['logistic_isotonic_ece']:.3f}/"
-            f"{cmp['logistic_isotonic_brier']:.3f}, "
-            f"gradient boosting {cmp['boosting_ece']:.3f}/{cmp['boosting_brier']:.3f}"
+            "model comparison on the same compound folds (calibration error / Brier / right top "
+            "hits confident when 1 % of the rest are):"
         )
+        for key, text in (
+            ("logistic", "logistic regression"),
+            ("logistic_isotonic", "logistic regression + isotonic"),
+            ("stored", f"{m.get('model', 'stored model')} (stored)"),
+            ("boosting_isotonic", "gradient boosting + isotonic"),
+        ):
+            if f"{key}_ece" in cmp:
+                out.append(
+                    f"  {text}: {cmp[key + '_ece']:.3f} / {cmp[key + '_brier']:.3f} / "
+                    f"{100 * cmp[key + '_right_at_1pct']:.1f} %"
+                )
     out.append(
         "A calibrated confidence is evidence, not proof of identity: it is measured on this "
         "library's own references re-made, not on your unknowns."

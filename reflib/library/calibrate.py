@@ -24,7 +24,14 @@ import numpy as np
 
 from reflib.analysis import calibration as cal
 from reflib.analysis.encode import comparable_peaks, encode
-from reflib.analysis.search import comparison_weights, explain, score_index
+from reflib.analysis.search import (
+    ATR_EXTRA_TOLERANCE,
+    MATCH_TOLERANCE,
+    atr_side,
+    comparison_weights,
+    explain,
+    score_index,
+)
 from reflib.errors import ValidationError
 from reflib.library.store import now
 
@@ -138,55 +145,72 @@ def collect(
             ref_cache[row] = (pl, comparable_peaks(pl, g.prep, enc), g)
         return ref_cache[row]
 
-    # the queries, grouped by preparation so that each group is one matrix product per chunk
-    by_prep: dict[tuple[str, ...], list[tuple[int, Any]]] = {}
+    # one query for each setting: the one searched with its compound left out stands for a
+    # fresh measurement of an absent compound, and the reference it is made from is already
+    # one measurement of its compound, so it takes less added change (cal.LEFT_OUT_CARE);
+    # grouped by preparation and setting so that each group is one matrix product per chunk
+    by_prep: dict[tuple[tuple[str, ...], bool], list[tuple[int, Any]]] = {}
     for row in rows:
         raw, _, g = ref_peaks(int(row))
         for _ in range(copies):
-            tokens = cal.QUERY_PREPS[int(rng.integers(len(cal.QUERY_PREPS)))]
-            q = cal.measure(cal.perturb(raw, g.prep, tokens, rng), rng)
-            q = comparable_peaks(q, tokens, enc)
-            if len(q):
-                by_prep.setdefault(tokens, []).append((int(row), q))
+            for left_out, care in ((False, cal.CARE_RANGE), (True, cal.LEFT_OUT_CARE)):
+                tokens = cal.QUERY_PREPS[int(rng.integers(len(cal.QUERY_PREPS)))]
+                c = float(rng.uniform(*care))
+                q = cal.measure(cal.perturb(raw, g.prep, tokens, rng, care=c), rng)
+                q = comparable_peaks(q, tokens, enc)
+                if len(q):
+                    by_prep.setdefault((tokens, left_out), []).append((int(row), q))
     feats, correct, present, groups = [], [], [], []
     w_cache: dict[tuple, np.ndarray] = {}
-    for tokens, items in by_prep.items():
+    for (tokens, left_out), items in by_prep.items():
         for c0 in range(0, len(items), CHUNK):
             chunk = items[c0 : c0 + CHUNK]
             qmat = np.vstack([encode(q, enc) for _, q in chunk])
             s = score_index(qmat, idx, enc, list(tokens), (None, None)).astype(np.float64)
             own = cids[:, None] == cids[[r for r, _ in chunk]][None, :]
-            for left_out in (False, True):
-                sc = np.where(own, 0.0, s) if left_out else s
-                top, s1, s2 = cal.distinct_top2(sc, cids)
-                for j, (row, q) in enumerate(chunk):
-                    t = int(top[j])
-                    _, rp, g = ref_peaks(t)
-                    wkey = (tokens, g.prep, g.lo, g.hi)
-                    if wkey not in w_cache:
-                        w_cache[wkey] = comparison_weights(
-                            enc, list(tokens), g.prep, (None, None), (g.lo, g.hi)
-                        )
-                    w = w_cache[wkey]
-                    ex = explain(q, rp, grid, w)
-                    crowd = nn1[t]
-                    if left_out and nn1_cid[t] == cids[row]:
-                        crowd = nn2[t]
-                    feats.append(
-                        [
-                            s1[j],
-                            s1[j] - s2[j],
-                            ex.strong_new,
-                            ex.strong_missing,
-                            ex.matched_strength,
-                            cal.mask_share(w),
-                            len(q),
-                            crowd,
-                        ]
+            sc = np.where(own, 0.0, s) if left_out else s
+            top, s1, s2, second = cal.distinct_top2(sc, cids)
+            for j, (row, q) in enumerate(chunk):
+                t = int(top[j])
+                _, rp, g = ref_peaks(t)
+                wkey = (tokens, g.prep, g.lo, g.hi)
+                if wkey not in w_cache:
+                    w_cache[wkey] = comparison_weights(
+                        enc, list(tokens), g.prep, (None, None), (g.lo, g.hi)
                     )
-                    correct.append((not left_out) and cids[t] == cids[row])
-                    present.append(not left_out)
-                    groups.append(cids[row])
+                w = w_cache[wkey]
+                # the band tolerance a search uses (Library._explain_hits)
+                tol = MATCH_TOLERANCE + (
+                    ATR_EXTRA_TOLERANCE if atr_side(tokens, g.prep) is not None else 0.0
+                )
+                ex = explain(q, rp, grid, w, tolerance=tol)
+                crowd = nn1[t]
+                if left_out and nn1_cid[t] == cids[row]:
+                    crowd = nn2[t]
+                u = int(second[j])
+                pair = (
+                    cal.candidates_alike(
+                        enc, idx.matrix[t], g.prep, idx.matrix[u], group_of(u).prep, w
+                    )
+                    if u >= 0
+                    else 0.0
+                )
+                feats.append(
+                    [
+                        s1[j],
+                        s1[j] - s2[j],
+                        ex.strong_new,
+                        ex.strong_missing,
+                        ex.matched_strength,
+                        cal.mask_share(w),
+                        len(q),
+                        crowd,
+                        pair,
+                    ]
+                )
+                correct.append((not left_out) and cids[t] == cids[row])
+                present.append(not left_out)
+                groups.append(cids[row])
     return {
         "X": np.array(feats, dtype=float),
         "correct": np.array(correct, bool),

@@ -21,7 +21,7 @@ from typing import Any
 
 import numpy as np
 
-from reflib.analysis.calibration import MIN_COMPOUNDS, mask_share
+from reflib.analysis.calibration import MIN_COMPOUNDS, candidates_alike, mask_share
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.phase import gas_against_condensed, strict_verdict
 from reflib.analysis.search import (
@@ -479,6 +479,18 @@ class Library:
         }
         features["mask_share"] = mask_share(explanations[0][2])
         features["crowding"] = self._crowding(hits[0].spectrum_id)
+        features["pair"] = (
+            candidates_alike(
+                enc,
+                idx.matrix[picks[0]],
+                group_of(picks[0]).prep,
+                idx.matrix[picks[1]],
+                group_of(picks[1]).prep,
+                explanations[0][2],
+            )
+            if len(picks) > 1
+            else 0.0
+        )
         verdict, reason, confidence = self._verdict(features, idx.size)
         if gas_against_condensed(tokens, hits[0].prep):
             verdict, reason = strict_verdict(verdict, reason, features)

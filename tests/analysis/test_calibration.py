@@ -88,6 +88,25 @@ def test_threshold_lets_at_most_the_rate_of_negatives_through():
     assert (neg >= np.nextafter(np.sort(neg)[-11], 0)).mean() > 0.01  # and not more strictly
 
 
+def test_the_bounded_threshold_keeps_the_rate_with_confidence():
+    # Clopper-Pearson (exact binomial) upper bound, textbook statistics: 0 of n negatives
+    # gives a one-sided 90 % bound of 1 - 0.1 ** (1 / n), which first drops to 1 % at n = 230
+    # (0.9961 %; 229 gives 1.0005 %); with 1 000 negatives the bound allows fewer than the
+    # plain 10
+    assert cal.allowed_false(230, 0.01, 0.9) == 0
+    assert cal.allowed_false(229, 0.01, 0.9) == -1
+    k = cal.allowed_false(1000, 0.01, 0.9)
+    assert 0 < k < 10 and cal.allowed_false(1000, 0.01, None) == 10
+    rng = np.random.default_rng(19)
+    reached = []
+    for _ in range(300):  # fresh negatives from the same law pass at most 1 % in ~90 % of runs
+        t = cal._threshold(rng.random(1000), 0.01, 0.9)
+        reached.append(1.0 - t)  # uniform negatives: the true share above t
+    assert np.mean(np.array(reached) <= 0.01) >= 0.85
+    few = rng.random(50)
+    assert cal._threshold(few, 0.01, 0.9) > few.max()  # too few to promise 1 %: none passes
+
+
 def _synthetic(n, rng):
     """Invented search features: right top hits score high with a margin, left-out ones lower."""
     present = np.arange(n) % 2 == 0
@@ -100,7 +119,8 @@ def _synthetic(n, rng):
     share = rng.uniform(0.6, 0.95, n)
     nb = rng.integers(8, 30, n)
     crowd = rng.uniform(0.6, 0.9, n)
-    X = np.column_stack([score, margin, new, missing, strength, share, nb, crowd])
+    pair = np.clip(score - margin - np.where(right, rng.normal(0.0, 0.03, n), 0.05), 0.0, 1.0)
+    X = np.column_stack([score, margin, new, missing, strength, share, nb, crowd, pair])
     return X, right, present, np.arange(n) // 4
 
 
@@ -143,14 +163,50 @@ def test_confidence_rises_with_the_score():
     rng = np.random.default_rng(18)
     X, right, present, groups = _synthetic(1000, rng)
     pieces, _ = cal.fit(X, right, present, groups, seed=2, compare_boosting=False)
-    row = np.array([[0.80, 0.05, 1, 0, 0.8, 0.8, 15, 0.75]])
+    row = np.array([[0.80, 0.05, 1, 0, 0.8, 0.8, 15, 0.75, 0.70]])
     hi = row.copy()
     hi[0, 0] = 0.95
+    # the same margin raises the runner-up too: raise the two candidates' likeness with it,
+    # so only the top score changes how the query stands to them
+    hi[0, 8] = 0.85
     assert pieces["correct"].predict(hi)[0] >= pieces["correct"].predict(row)[0]
 
 
 @pytest.mark.parametrize("bad", [0.0, 0.7])
 def test_distinct_top2_needs_other_compounds(bad):
     s = np.array([[0.9], [0.8], [bad]])
-    top, s1, s2 = cal.distinct_top2(s, np.array([1, 1, 2]))
+    top, s1, s2, second = cal.distinct_top2(s, np.array([1, 1, 2]))
     assert top[0] == 0 and s1[0] == pytest.approx(0.9) and s2[0] == pytest.approx(bad)
+    assert second[0] == 2  # the runner-up is the other compound's row, not the same compound's
+    _, _, s2, second = cal.distinct_top2(s[:2], np.array([1, 1]))
+    assert s2[0] == 0.0 and second[0] == -1  # no other compound at all
+
+
+def test_pair_score_is_the_weighted_cosine_and_ignores_weightless_bins():
+    # definition of the cosine (no source): identical vectors 1, orthogonal ones 0; a bin of
+    # weight 0 (a masked region) cannot make two candidates alike or unlike
+    a = np.array([1.0, 0.0, 2.0, 5.0])
+    b = np.array([1.0, 3.0, 2.0, -7.0])
+    w = np.array([1.0, 0.0, 1.0, 0.0])
+    assert cal.pair_score(a, b, w) == pytest.approx(1.0)
+    assert cal.pair_score(a, b, np.ones(4)) < 0.5
+    assert cal.pair_score(np.array([1.0, 0.0]), np.array([0.0, 1.0]), np.ones(2)) == 0.0
+    assert cal.pair_score(a, np.zeros(4), np.ones(4)) == 0.0
+
+
+def test_a_query_between_two_analogs_is_told_from_a_query_of_one_of_them():
+    # geometry of the cosine (no source): unit vectors t1, t2 at 40 degrees; a re-measurement of
+    # t1 (10 degrees off, away from t2) is less alike t2 than t1 is, while a compound half way
+    # between them is nearer to t2 than t1 is: second - pair separates them
+    ang = np.radians
+
+    def unit(deg):
+        return np.array([np.cos(ang(deg)), np.sin(ang(deg)), 0.0])
+
+    t1, t2 = unit(0.0), unit(40.0)
+    w = np.ones(3)
+    pair = cal.pair_score(t1, t2, w)
+    for q, between in ((unit(-10.0), False), (unit(20.0), True)):
+        s1 = cal.pair_score(q, t1, w)
+        s2 = cal.pair_score(q, t2, w)
+        assert (s2 - pair > 0) == between, (s1, s2, pair)

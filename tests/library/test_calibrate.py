@@ -125,3 +125,31 @@ def test_cli_prints_what_it_measured_and_refuses_a_small_library(big, tmp_path, 
     assert r.exit_code != 0
     con = sqlite3.connect(path)
     assert json.loads(con.execute("SELECT value FROM meta WHERE key='calibration'").fetchone()[0])
+
+
+def test_the_top_two_candidates_likeness_is_high_within_a_family(big):
+    # invented families (12 shared core bands, 3 own): two members of one family share most of
+    # their bands, so where the query is seen they are alike; members of two families share
+    # none (definition of the weighted cosine, no source)
+    from reflib.analysis.search import comparison_weights
+
+    lib, members = big
+    res = lib.search(members[4][1], prep="film")
+    top, second = res.hits[0], res.hits[1]
+    assert top.name.split("-")[0] == second.name.split("-")[0]  # the same family
+    assert 0.5 < res.features["pair"] <= 1.0
+    idx = lib.index()
+    row = {int(s): i for i, s in enumerate(idx.spectrum_ids)}
+    far = lib.search(members[0][1], prep="film").hits[0]  # family0-member0 itself
+    assert far.name == members[0][0]
+    other_sid = far.spectrum_id
+    w = comparison_weights(lib.encoding, ["film"], ["film"])
+    unlike = cal.candidates_alike(
+        lib.encoding,
+        idx.matrix[row[top.spectrum_id]],
+        ["film"],
+        idx.matrix[row[other_sid]],
+        ["film"],
+        w,
+    )
+    assert unlike < res.features["pair"] - 0.3
