@@ -29,9 +29,12 @@ maximum, or a strong noisy plateau at the maximum (see :func:`saturated_runs` an
 
 Opaque regions are holes, not bands: a saturated run that reaches an end of the data, is wider
 than :data:`OPAQUE_MIN_WIDTH_CM1`, or overlaps a region the spectrum's own preparation makes
-opaque (``meta.prep``: a solvent in its cell, a window's cut-off) is cut out with its walls
-before the baseline, the baseline is computed on each piece between holes (it never bridges
-one), no band is reported in or at the edge of a hole, and the cut ranges are listed in
+opaque (``meta.prep``: a solvent in its cell, a window's cut-off) is cut out with the dark
+part of its walls (while less than a tenth of the light nearby comes through,
+:data:`WALL_DEPTH`) before the baseline, the baseline is computed on each piece between holes
+(it never bridges one; beside a hole it is the higher of the rolling baseline and the lower
+convex hull of the piece, which follows the rest of the wall, :func:`lower_hull`), no band is
+reported in or at the edge of a hole, and the cut ranges are listed in
 ``meta.extra['holes']`` so that the comparison counts them as not covered.
 
 Bands the trace shows no maximum for, or only a shallow dip beside a stronger band, are found
@@ -106,11 +109,17 @@ FLOOR_SPAN_T = 0.025
 #: opaque whatever its width.
 OPAQUE_MIN_WIDTH_CM1 = 200.0
 
-#: The walls of an opaque region are cut with it, out to the first dip of the trace smoothed
-#: over :data:`WALL_SMOOTH_CM1` (FWHM), and at most :data:`WALL_MAX_CM1` beyond the run.
+#: The walls of an opaque region are cut with it, at least :data:`WALL_MIN_CM1` beyond the run,
+#: then while the trace smoothed over :data:`WALL_SMOOTH_CM1` (FWHM) keeps falling and stays
+#: more than :data:`WALL_DEPTH` absorbance above the lowest point within :data:`WALL_MAX_CM1`
+#: (less than a tenth of the light the sample passes there: the photometric noise is ten times
+#: larger and stray light flattens band shapes), and at most :data:`WALL_MAX_CM1` beyond the
+#: run. The lower part of the wall is left to the baseline, which follows it (see
+#: :func:`lower_hull`), so bands standing on it are kept (common practice, no source).
 WALL_SMOOTH_CM1 = 8.0
 WALL_MAX_CM1 = 80.0
 WALL_MIN_CM1 = 6.0
+WALL_DEPTH = 1.0
 
 #: Second-derivative bands (shoulders, bands on a flank): the trace is smoothed again with this
 #: FWHM (cm-1) before the derivative, and a minimum of -y'' must reach this many standard
@@ -188,7 +197,13 @@ def _points(width_cm1: float, step: float) -> int:
     return max(1, n + (1 - n % 2))
 
 
-def _rolling_baseline(y: np.ndarray, step: float, window_cm1: float, smooth_cm1: float):
+def _rolling_baseline(
+    y: np.ndarray,
+    step: float,
+    window_cm1: float,
+    smooth_cm1: float,
+    hole_edges: tuple[bool, bool] = (False, False),
+):
     size = _points(window_cm1, step)
     opened = filters1d.maximum_filter1d(
         filters1d.minimum_filter1d(y, size, mode="nearest"), size, mode="nearest"
@@ -198,8 +213,37 @@ def _rolling_baseline(y: np.ndarray, step: float, window_cm1: float, smooth_cm1:
         smoothed = filters1d.uniform_filter1d(opened, smooth, mode="nearest")
         # A moving average can rise above the data where the opening has a sharp corner;
         # the baseline never passes above the trace.
-        return np.minimum(smoothed, y)
-    return opened
+        out = np.minimum(smoothed, y)
+    else:
+        out = opened
+    if any(hole_edges):
+        # Beside a hole the trace starts on the wall of the opaque band. The opening follows a
+        # falling wall, but the moving average does not (it mixes the wall's top into the
+        # points beside it); the lower convex hull follows a convex wall between the feet of
+        # the bands standing on it. Both lie under the trace: take the higher.
+        out = np.maximum(out, lower_hull(y))
+    return out
+
+
+def lower_hull(y: np.ndarray) -> np.ndarray:
+    """The lower convex hull of the points ``(i, y[i])`` (a "rubber band" stretched under the
+    trace), evaluated at every index: never above the trace, equal to it wherever the trace is
+    convex from below and touches the band."""
+    y = np.asarray(y, dtype=float)
+    n = y.size
+    if n < 3:
+        return y.copy()
+    hull: list[int] = []
+    for i in range(n):  # Andrew's monotone chain, lower half
+        while len(hull) >= 2:
+            i0, i1 = hull[-2], hull[-1]
+            if (y[i1] - y[i0]) * (i - i0) - (y[i] - y[i0]) * (i1 - i0) >= 0:
+                hull.pop()
+            else:
+                break
+        hull.append(i)
+    idx = np.array(hull)
+    return np.interp(np.arange(n, dtype=float), idx.astype(float), y[idx])
 
 
 def _als_baseline(
@@ -526,16 +570,24 @@ def pick_peaks(
         _, t_grid = uniform_grid(spectrum.x, spectrum.y)
         if float(np.min(t_grid)) > saturation_t:  # a floor above the level: stray light
             runs = _merge_runs(runs, floor_runs(t_grid))
-    opaque = _is_opaque(runs, x, step, _opaque_ranges(spectrum.meta.prep))
+    ranges = _opaque_ranges(spectrum.meta.prep)
+    opaque = _is_opaque(runs, x, step, ranges)
     cut, holes = _cut_holes(a, runs[opaque], step)
     band_runs = runs[~opaque]
 
     corrected = np.zeros_like(a)
     for lo_i, hi_i in _runs(~cut):
         if hi_i - lo_i >= 5:
-            corrected[lo_i:hi_i] = a[lo_i:hi_i] - _baseline_for(
-                a[lo_i:hi_i], x[lo_i:hi_i], baseline, window_cm1
-            )
+            edges = (lo_i > 0, hi_i < x.size)
+
+            if baseline == "rolling" and any(edges):
+                corrected[lo_i:hi_i] = a[lo_i:hi_i] - _rolling_baseline(
+                    a[lo_i:hi_i], step, window_cm1, window_cm1 / 2.0, edges
+                )
+            else:
+                corrected[lo_i:hi_i] = a[lo_i:hi_i] - _baseline_for(
+                    a[lo_i:hi_i], x[lo_i:hi_i], baseline, window_cm1
+                )
     sigma_pts = smooth_cm1 / (2.0 * np.sqrt(2.0 * np.log(2.0))) / step
     if sigma_pts > 0.3:
         ys = filters1d.gaussian_filter1d(corrected, sigma_pts, mode="nearest")
@@ -870,11 +922,22 @@ def _cut_holes(a: np.ndarray, runs: np.ndarray, step: float):
     lo_min = max(1, int(np.ceil(WALL_MIN_CM1 / step)))
     lo_max = max(lo_min, int(np.ceil(WALL_MAX_CM1 / step)))
     for start, stop in runs:
+        # the local floor: the lowest point of the smoothed trace within WALL_MAX_CM1
+        floor_l = float(np.min(sm[max(0, start - lo_max) : start])) if start > 0 else 0.0
+        floor_r = float(np.min(sm[stop : stop + lo_max])) if stop < n else 0.0
         i = start
-        while i > 0 and start - i < lo_max and (start - i < lo_min or sm[i - 1] < sm[i]):
+        while (
+            i > 0
+            and start - i < lo_max
+            and (start - i < lo_min or (sm[i - 1] < sm[i] and sm[i - 1] - floor_l > WALL_DEPTH))
+        ):
             i -= 1
         j = stop
-        while j < n and j - stop < lo_max and (j - stop < lo_min or sm[j] < sm[j - 1]):
+        while (
+            j < n
+            and j - stop < lo_max
+            and (j - stop < lo_min or (sm[j] < sm[j - 1] and sm[j] - floor_r > WALL_DEPTH))
+        ):
             j += 1
         cut[i:j] = True
     return cut, [tuple(r) for r in _runs(cut)]
