@@ -139,16 +139,19 @@ def test_holes_count_as_not_covered_in_the_comparison() -> None:
 # --- shoulders and flank bands -----------------------------------------------------------------
 
 
-def test_shoulder_on_a_two_gaussian_sum_is_found_and_flagged() -> None:
-    """1700 cm-1 (FWHM 16, height 1) with a shoulder at 1716 (FWHM 12, height 0.35): the sum has
-    one maximum only, yet the second derivative shows the shoulder; it is reported within 2
-    cm-1 and flagged, and the main band is not."""
+def _shoulder_spectrum() -> Spectrum:
+    """1700 cm-1 (FWHM 16, height 1) with a shoulder at 1716 (FWHM 12, height 0.35)."""
     x = grid(1.0)
     a = gaussian(x, 1700.0, 16.0) + gaussian(x, 1716.0, 12.0, 0.35) + 0.02
     d = np.diff(a[(x > 1650) & (x < 1760)])
     assert np.sum((d[:-1] > 0) & (d[1:] <= 0)) == 1  # a single maximum: a true shoulder
-    a = a + np.random.default_rng(2).normal(0.0, 5e-4, x.size)
-    pl = pick_peaks(Spectrum(x, a))
+    return Spectrum(x, a + np.random.default_rng(2).normal(0.0, 5e-4, x.size))
+
+
+def test_shoulder_on_a_two_gaussian_sum_is_found_and_flagged() -> None:
+    """The sum has one maximum only, yet the second derivative shows the shoulder; it is
+    reported within 2 cm-1 and flagged, and the main band is not."""
+    pl = pick_peaks(_shoulder_spectrum())
     main = near(pl, 1700.0, 1.0)
     sh = near(pl, 1716.0, 2.0)
     assert main.size == 1 and sh.size == 1, pl.to_text()
@@ -156,6 +159,20 @@ def test_shoulder_on_a_two_gaussian_sum_is_found_and_flagged() -> None:
     # its height above the local envelope is a lower bound (the main band's convex wing takes
     # part of its curvature): above noise, below its true 0.35
     assert 0.02 < float(pl.intensities[sh[0]]) < 0.35
+
+
+def test_shoulder_resolved_by_the_band_fit() -> None:
+    """With fit_overlaps the two bands are fitted together and each gets its own height,
+    position and width (0.35 relative at 1716 cm-1, FWHM 12 and 16): the shoulder is then an
+    ordinary band of the list."""
+    pl = pick_peaks(_shoulder_spectrum(), fit_overlaps=True)
+    main = near(pl, 1700.0, 1.0)
+    sh = near(pl, 1716.0, 1.0)
+    assert main.size == 1 and sh.size == 1, pl.to_text()
+    assert not pl.shoulder.any()
+    assert float(pl.intensities[sh[0]]) == pytest.approx(0.35, rel=0.05)
+    assert float(pl.widths[sh[0]]) == pytest.approx(12.0, rel=0.1)
+    assert float(pl.widths[main[0]]) == pytest.approx(16.0, rel=0.1)
 
 
 @pytest.mark.parametrize("seed", range(5))
