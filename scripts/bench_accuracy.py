@@ -74,8 +74,10 @@ TARGETS = {
 GRID = simlib.default_axis(step=4.0)
 
 
-def measured(peaks, tokens, rng, *, truncate=None):
-    """A simulated measurement: perturb, phase effects, render, preparation. Returns a Spectrum."""
+def measured(peaks, tokens, rng, *, truncate=None, bands=False):
+    """A simulated measurement: perturb, phase effects, render, preparation. Returns a Spectrum,
+    and with ``bands`` also the band list it was rendered from (after perturbation and phase
+    effects)."""
     pl = simlib.perturb(peaks, rng)
     pl = simlib.condense(pl, tokens, rng)
     spec = simlib.render(
@@ -84,7 +86,36 @@ def measured(peaks, tokens, rng, *, truncate=None):
         noise=float(rng.uniform(0.0008, 0.004)),
         baseline=float(rng.uniform(0.003, 0.03)),
     )
-    return simlib.apply_prep(spec, tokens, rng, truncate_windows=truncate)
+    spec = simlib.apply_prep(spec, tokens, rng, truncate_windows=truncate)
+    return (spec, pl) if bands else spec
+
+
+#: A band of the rendered list is *visible* when its relative intensity is at least this and the
+#: preparation's comparison weight there (air included) at least VISIBLE_WEIGHT; it is *picked*
+#: when a band the comparison uses (not a shoulder) lies within RECALL_TOLERANCE cm-1 (half the
+#: encoding's broadening). Same rule as scripts/bench_band_recall.py, on the benchmark's own
+#: query spectra; bands in cut holes count as not picked.
+VISIBLE_RELATIVE = 0.1
+VISIBLE_WEIGHT = 0.5
+RECALL_TOLERANCE = 8.0
+
+
+def band_recall(spec, truth, tokens) -> tuple[int, int]:
+    """(visible bands, of them picked) for one query spectrum and the band list it came from."""
+    from reflib.chem import prep as prep_mod
+    from reflib.library.entries import to_peaks
+
+    picked = to_peaks(spec, tokens)
+    used = picked.positions[~picked.shoulder]
+    lo, hi = spec.range_cm1
+    w = prep_mod.weight_profile(truth.positions, list(tokens), air=True)
+    inside = (truth.positions >= lo + 10) & (truth.positions <= hi - 10)
+    vis = (truth.intensities >= VISIBLE_RELATIVE) & (w >= VISIBLE_WEIGHT) & inside
+    pos = truth.positions[vis]
+    if used.size == 0:
+        return int(pos.size), 0
+    found = np.min(np.abs(pos[:, None] - used[None, :]), axis=1) <= RECALL_TOLERANCE
+    return int(pos.size), int(found.sum())
 
 
 def on_grid(spec) -> tuple[np.ndarray, np.ndarray]:
@@ -168,7 +199,7 @@ def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool, cal
         tokens = QUERY_PREPS[label]
         for c, in_lib in [(c, True) for c in compounds] + [(c, False) for c in held]:
             rng = simlib.rng_for(seed, "query", label, c.key)
-            spec = measured(c.peaks, tokens, rng)
+            spec, truth = measured(c.peaks, tokens, rng, bands=True)
             if label in FAULT_PREPS:
                 spec = simlib.apply_fault(spec, FAULT_PREPS[label], rng)
                 if FAULT_PREPS[label] == "t-drift":  # through a file: it must not be refused
@@ -189,15 +220,16 @@ def run(n_lib: int, n_held: int, seed: int, preps: list[str], verbose: bool, cal
                 "features": {k: float(v) for k, v in res.features.items()},
             }
             if in_lib:
-                truth = index[c.name]
+                k = index[c.name]
                 row["rank"] = names.index(c.name) + 1 if c.name in names else None
                 y, covered = on_grid(spec)
                 row["corr_rank"] = (
-                    int(np.flatnonzero(base.correlation_rank(y, covered) == truth)[0]) + 1
+                    int(np.flatnonzero(base.correlation_rank(y, covered) == k)[0]) + 1
                 )
                 row["deriv_rank"] = (
-                    int(np.flatnonzero(base.derivative_rank(y, covered) == truth)[0]) + 1
+                    int(np.flatnonzero(base.derivative_rank(y, covered) == k)[0]) + 1
                 )
+                row["visible"], row["visible_picked"] = band_recall(spec, truth, tokens)
             rows.append(row)
         if verbose:
             print(f"  {label}: done after {time.perf_counter() - t0:.0f} s", file=sys.stderr)
@@ -219,7 +251,10 @@ def report(rows, timing, preps) -> dict:
         f"{len(rows)} queries; library built in {timing['build_s']:.1f} s, queries in "
         f"{timing['query_s']:.1f} s (longest worker)\n"
     )
-    head = f"{'prep':8} {'n':>5} {'top1%':>6} {'top3%':>6} {'corr1%':>7} {'deriv1%':>8} {'lead':>6}"
+    head = (
+        f"{'prep':8} {'n':>5} {'top1%':>6} {'top3%':>6} {'corr1%':>7} {'deriv1%':>8} {'lead':>6}"
+        f" {'bands%':>7}"
+    )
     print(head)
     print("-" * len(head))
     per = {}
@@ -231,12 +266,19 @@ def report(rows, timing, preps) -> dict:
         c1 = sum(r["corr_rank"] == 1 for r in rs)
         d1 = sum(r["deriv_rank"] == 1 for r in rs)
         lead = (t1 - max(c1, d1)) / n if n else 0.0
+        vis = sum(r.get("visible", 0) for r in rs)
+        got = sum(r.get("visible_picked", 0) for r in rs)
         per[label] = {"n": n, "top1": t1 / n, "top3": t3 / n, "corr1": c1 / n, "deriv1": d1 / n}
+        per[label]["visible_picked"] = got / vis if vis else None
         print(
             f"{label:8} {n:5d} {_pct(t1, n):>6} {_pct(t3, n):>6} {_pct(c1, n):>7} "
-            f"{_pct(d1, n):>8} {100 * lead:+6.1f}"
+            f"{_pct(d1, n):>8} {100 * lead:+6.1f} {_pct(got, vis):>7}"
         )
-    print("\n(lead = reflib top-1 minus the better baseline's top-1, percentage points)")
+    print("\n(lead = reflib top-1 minus the better baseline's top-1, percentage points;")
+    print(
+        f" bands = visible bands (relative intensity >= {VISIBLE_RELATIVE}, comparison weight >= "
+        f"{VISIBLE_WEIGHT}) picked within {RECALL_TOLERANCE:g} cm-1 by a band the comparison uses)"
+    )
 
     print("\nVerdicts")
     print(f"{'':28} {'confident':>10} {'ambiguous':>10} {'no-match':>10} {'n':>6}")
