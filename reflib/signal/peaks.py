@@ -42,14 +42,7 @@ in the second derivative (:func:`derivative_bands`): their prominence is their h
 the local envelope, held to the same ``min_snr``, and they are flagged ``shoulder`` (their
 height is a lower bound). Comparing them with those heights measured worse on
 scripts/bench_accuracy.py (film 98.4 -> 97.8, nujol 96.2 -> 94.7 % top-1), so the search leaves
-flagged shoulders out; they are for the chemist's eye. With ``fit_overlaps=True`` (off by
-default) groups of overlapping bands (maxima closer than their width, a maximum and its
-shoulders) are fitted as a sum of bands (:func:`reflib.signal.bandfit.resolve_overlaps`);
-where the fit describes the trace, every member takes its fitted height, position and width,
-and a shoulder so resolved loses its flag and is compared like any band. Measured on
-scripts/bench_accuracy.py (n=320, seed 0, top-1 %): film 98.4 -> 98.8, CHCl3 94.1 -> 94.4,
-but KBr 98.4 -> 98.1, CH2Cl2 94.7 -> 93.4 and t-drift 97.8 -> 97.2, so it stays off; it also
-makes picking about four times slower.
+flagged shoulders out; they are for the chemist's eye.
 
 Chosen defaults and why (measured on the gas-phase spectra of the jcamp 1.3.2 distribution and on
 constructed bands; see the tests):
@@ -86,7 +79,6 @@ import numpy as np
 
 from reflib.errors import ValidationError
 from reflib.signal import filters1d
-from reflib.signal.bandfit import resolve_overlaps
 from reflib.signal.peakfind import find_peaks, local_maxima, peak_widths, select_by_distance
 from reflib.signal.pedestal import broad_beneath
 from reflib.spectrum import MIN_TRANSMITTANCE, PeakList, Spectrum, strength_word
@@ -135,10 +127,6 @@ WALL_DEPTH = 1.0
 #: deviations of the derivative's own noise.
 D2_SMOOTH_CM1 = 4.0
 D2_SNR = 6.0
-
-#: Bands closer than this (cm-1) to a hole or a flat top take no part in the band fit: the fit
-#: window would reach into the cut or the plateau.
-FIT_CLEAR_CM1 = 40.0
 
 _MAD_TO_SIGMA = 1.482602218505602  # 1 / Phi^-1(3/4): MAD of a normal sample -> its sigma
 
@@ -500,7 +488,6 @@ def pick_peaks(
     broad_fwhm_low_cm1: float = 60.0,
     broad_split_cm1: float = 2500.0,
     saturation_t: float = 0.01,
-    fit_overlaps: bool = False,
 ) -> PeakList:
     """The bands of a full spectrum as a :class:`~reflib.spectrum.PeakList`.
 
@@ -527,10 +514,6 @@ def pick_peaks(
         ``broad_split_cm1`` cm-1, or ``broad_fwhm_low_cm1`` below it.
     saturation_t:
         Transmittance (0..1) at or below which a band of a transmittance spectrum is saturated.
-    fit_overlaps:
-        Fit groups of overlapping bands as a sum of bands (:mod:`reflib.signal.bandfit`) and
-        compare the shoulders the fit resolves. Off by default (an experiment: it did not
-        improve scripts/bench_accuracy.py as a whole, see the module notes).
 
     Returns
     -------
@@ -694,30 +677,6 @@ def pick_peaks(
     # but left out of the comparison (see reflib.analysis.encode.comparable_peaks).
     shoulder = np.concatenate([np.zeros(idx.size, bool), np.ones(s_idx.size, bool)])
     positions = np.interp(frac, np.arange(x.size, dtype=float), x)
-    # Groups of overlapping bands (a maximum and its shoulders, maxima closer than their
-    # width): fitted as a sum of bands, each then gets its own height, position and width, and
-    # a shoulder the fit resolves is compared like any band (reflib.signal.bandfit).
-    # Off by default: on scripts/bench_accuracy.py it moved film 98.4 -> 98.8 and CHCl3 94.1 ->
-    # 94.4 but KBr 98.4 -> 98.1 and CH2Cl2 94.7 -> 93.4 % top-1 (n=320, seed 0).
-    at = np.clip(np.round(frac).astype(int), 0, x.size - 1)
-    fitted = np.zeros(positions.size, bool)
-    if fit_overlaps:
-        usable = ~saturated & ~_dilate(busy, int(round(FIT_CLEAR_CM1 / step)))[at]
-        f_pos, f_h, f_w, fitted = resolve_overlaps(x, ys, positions, heights, fwhm, usable, noise)
-    if fitted.any():
-        f_w = np.sqrt(np.maximum(f_w**2 - smooth_fwhm**2, 0.25 * f_w**2))
-        positions = np.where(fitted, f_pos, positions)
-        heights = np.where(fitted, f_h, heights)
-        fwhm = np.where(fitted, f_w, fwhm)
-        shoulder = shoulder & ~fitted
-        keep = ~fitted | (heights >= min_snr * noise[at])
-        positions, heights, fwhm, saturated, shoulder = (
-            positions[keep],
-            heights[keep],
-            fwhm[keep],
-            saturated[keep],
-            shoulder[keep],
-        )
 
     # Broad bands beneath sharp ones (the H-bonded O-H under a terminal alkyne's C-H), which
     # have no maximum of their own: from an opening of the trace (reflib.signal.pedestal).

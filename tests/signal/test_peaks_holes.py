@@ -161,20 +161,6 @@ def test_shoulder_on_a_two_gaussian_sum_is_found_and_flagged() -> None:
     assert 0.02 < float(pl.intensities[sh[0]]) < 0.35
 
 
-def test_shoulder_resolved_by_the_band_fit() -> None:
-    """With fit_overlaps the two bands are fitted together and each gets its own height,
-    position and width (0.35 relative at 1716 cm-1, FWHM 12 and 16): the shoulder is then an
-    ordinary band of the list."""
-    pl = pick_peaks(_shoulder_spectrum(), fit_overlaps=True)
-    main = near(pl, 1700.0, 1.0)
-    sh = near(pl, 1716.0, 1.0)
-    assert main.size == 1 and sh.size == 1, pl.to_text()
-    assert not pl.shoulder.any()
-    assert float(pl.intensities[sh[0]]) == pytest.approx(0.35, rel=0.05)
-    assert float(pl.widths[sh[0]]) == pytest.approx(12.0, rel=0.1)
-    assert float(pl.widths[main[0]]) == pytest.approx(16.0, rel=0.1)
-
-
 @pytest.mark.parametrize("seed", range(5))
 def test_single_bands_on_noise_get_no_shoulders(seed: int) -> None:
     """Isolated Gaussian bands on white noise: no shoulder is invented."""
