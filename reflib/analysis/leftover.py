@@ -864,7 +864,8 @@ def start_only_bands(
     """Every strong starting-material band judged in the sample (see :func:`_start_band_fit`).
 
     ``product_bands`` are the sample's bands of groups the crude shows and the starting material
-    does not (:func:`_product_group_bands`): a band's amount is judged against the tail such a
+    does not (:func:`_product_group_bands`) and the sample's bands the starting material cannot
+    be (:func:`_foreign_bands`): a band's amount is judged against the tail such a
     band puts at it (:func:`_flank_allowance`) as well as against the noise."""
     out = []
     wins = []
