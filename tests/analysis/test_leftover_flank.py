@@ -26,3 +26,35 @@ def test_flank_allowance_ignores_bands_on_top_and_far_away():
     far = 1730.0 + 2.0 * lo.PRODUCT_TAIL_REACH * 20.0
     assert lo._flank_allowance(y, grid, 1730.0, 20.0, 0.4, [on_top, far]) == 0.0
     assert lo._flank_allowance(y, grid, 1730.0, 20.0, 0.4, []) == 0.0
+
+
+def test_foreign_bands_are_the_sample_bands_the_start_cannot_be():
+    """A strong sample band where the starting material absorbs nothing (within the largest
+    shift) belongs to another compound; a band at the starting material's own place does not
+    count (common practice, no source)."""
+    grid = np.arange(1000.0, 2000.0, 2.0)
+    g = lambda c, w: np.exp(-0.5 * ((grid - c) / w) ** 2)  # noqa: E731
+    start = g(1740.0, 5.0)
+    sample = 0.1 * g(1740.0, 5.0) + g(1710.0, 10.0) + 0.05 * g(1300.0, 8.0)
+    usable = np.ones(grid.size, bool)
+    got = lo._foreign_bands(sample, grid, start, usable, noise=1e-3)
+    # the 1710 band (30 cm-1 from the start's, farther than its shift) is foreign; the 1300
+    # band is under FOREIGN_MIN_RELATIVE of the strongest; the 1740 band is the start's own
+    assert got == [1710.0]
+
+
+def test_neighbour_columns_hold_a_lorentzian_of_the_same_width():
+    """Condensed-phase bands lie between Gaussian and Lorentzian (any spectroscopy text): each
+    neighbouring band of the sample gets both shapes, the Lorentzian at half height one half
+    width from its centre."""
+    grid = np.arange(1000.0, 2000.0, 2.0)
+    y = np.exp(-0.5 * ((grid - 1720.0) / (20.0 / 2.3548)) ** 2)
+    win = lo._window(grid, 1760.0, 10.0, np.ones(grid.size, bool))
+    cols = lo._neighbour_columns(y, grid, win, 1e-3)
+    assert len(cols) == 2
+    gau, lor = cols
+    # same centre, same width at half height, and the Lorentzian's tail the longer one
+    assert grid[int(np.argmax(lor))] == grid[int(np.argmax(gau))] == 1720.0
+    assert np.sum(lor >= 0.5) == np.sum(gau >= 0.5)
+    far = np.searchsorted(grid, 1780.0)  # three widths away
+    assert lor[far] > 10 * gau[far]
