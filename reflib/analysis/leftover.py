@@ -679,15 +679,6 @@ PRODUCT_TAIL_REACH = 5.0
 #: Start only: each neighbouring band of the sample is fitted as a Gaussian and a Lorentzian of
 #: its width (a pseudo-Voigt), not as a Gaussian alone.
 NEIGHBOUR_LORENTZ = True
-#: Start only, experimental and OFF by default: refit every band within
-#: :data:`BAND_JITTER_CM1` of the offset common to the clearly seen bands. On the invented
-#: benchmark it cut false alarms, but it lost detection there and on the real gas-phase series
-#: (tests/outside), where the median offset of the shared bands misleads.
-COMMON_SHIFT = False
-#: Start only: largest difference (cm-1) of one band's shift from the offset common to all bands
-#: (each of two measurements moves single bands by a couple of cm-1 besides its calibration
-#: offset; common practice, no source).
-BAND_JITTER_CM1 = 6.0
 #: Start only: also count as the product's likely bands the sample's bands the starting material
 #: cannot be (:func:`_foreign_bands`): at least this strong relative to the sample's strongest...
 FOREIGN_BANDS = True
@@ -720,7 +711,6 @@ def _start_band_fit(
     usable: np.ndarray,
     noise: float,
     corr_pts: float,
-    shift_range: tuple[float, float] | None = None,
 ) -> tuple[float, float, float, float, float, float]:
     """One starting-material band against the sample, without the product: the sample in the
     window as the shifted starting material, the interfering reagents/solvents/preparation bands
@@ -735,8 +725,7 @@ def _start_band_fit(
     oth = [o[sl][m] for o in others]
     oth = [o for o in oth if o.size and float(o.max()) > 2.0 * noise]
     oth += [c[sl][m] for c in _neighbour_columns(y, grid, win, noise)]
-    lo_s, hi_s = shift_range or (-START_MAX_SHIFT_CM1, START_MAX_SHIFT_CM1)
-    shifts = np.arange(lo_s, hi_s + 0.1, 2.0) / GRID_STEP_CM1
+    shifts = np.arange(-START_MAX_SHIFT_CM1, START_MAX_SHIFT_CM1 + 0.1, 2.0) / GRID_STEP_CM1
     best = None
     for ds in shifts:
         sc = _shifted(S, float(ds))[sl][m]
@@ -877,27 +866,6 @@ def start_only_bands(
         _start_band_fit(y, grid, S, list(others), win, usable, noise, corr_pts)
         for _p, _r, _f, win in wins
     ]
-    if COMMON_SHIFT:
-        # one instrument's wavenumber offset moves every band alike; band to band the two
-        # measurements differ by a few cm-1 only. The offset is the median shift of the bands
-        # the sample shows clearly with the reference's shape; every band is then refitted
-        # within BAND_JITTER_CM1 of it, so that no band slides onto a neighbour's flank.
-        clear = [
-            f[4]
-            for f in fits
-            if f[0] >= 10.0 * f[1] and f[0] * f[2] >= 10.0 * noise and f[3] <= SHAPE_LIMIT
-        ]
-        if len(clear) >= 3:
-            off = float(np.median(clear))
-            rng_ = (
-                max(off - BAND_JITTER_CM1, -START_MAX_SHIFT_CM1),
-                min(off + BAND_JITTER_CM1, START_MAX_SHIFT_CM1),
-            )
-            fits = [
-                f if rng_[0] <= f[4] <= rng_[1]
-                else _start_band_fit(y, grid, S, list(others), w[3], usable, noise, corr_pts, rng_)
-                for f, w in zip(fits, wins)
-            ]  # fmt: skip
     for (pos, rel, fwhm, _win), (a, sg, peak, misfit, ds, ceil) in zip(wins, fits):
         broad = max(fwhm, _profile_fwhm(S, grid, pos)) > BROAD_FWHM_CM1
         # a band the sample does not show has no shape to judge: it is absent, and its ceiling
