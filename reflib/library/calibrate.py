@@ -149,17 +149,22 @@ def collect(
     # fresh measurement of an absent compound, and the reference it is made from is already
     # one measurement of its compound, so it takes less added change (cal.LEFT_OUT_CARE);
     # grouped by preparation and setting so that each group is one matrix product per chunk
-    by_prep: dict[tuple[tuple[str, ...], bool], list[tuple[int, Any]]] = {}
+    # Every query's preparation, care and seed are drawn here, in one stream, so that the
+    # queries are the same however many worker processes make them.
+    tasks, keys = [], []
     for row in rows:
         raw, _, g = ref_peaks(int(row))
         for _ in range(copies):
             for left_out, care in ((False, cal.CARE_RANGE), (True, cal.LEFT_OUT_CARE)):
                 tokens = cal.QUERY_PREPS[int(rng.integers(len(cal.QUERY_PREPS)))]
                 c = float(rng.uniform(*care))
-                q = cal.measure(cal.perturb(raw, g.prep, tokens, rng, care=c), rng)
-                q = comparable_peaks(q, tokens, enc)
-                if len(q):
-                    by_prep.setdefault((tokens, left_out), []).append((int(row), q))
+                seed = int(rng.integers(2**63))
+                tasks.append((raw, tuple(g.prep), tokens, c, seed, enc))
+                keys.append((int(row), tokens, left_out))
+    by_prep: dict[tuple[tuple[str, ...], bool], list[tuple[int, Any]]] = {}
+    for (row, tokens, left_out), q in zip(keys, _make_queries(tasks)):
+        if len(q):
+            by_prep.setdefault((tokens, left_out), []).append((row, q))
     feats, correct, present, groups = [], [], [], []
     w_cache: dict[tuple, np.ndarray] = {}
     for (tokens, left_out), items in by_prep.items():
@@ -219,6 +224,31 @@ def collect(
         "nn1": nn1,
         "spectrum_ids": idx.spectrum_ids.astype(np.int64),
     }
+
+
+#: Fewer calibration queries than this are made in this process (a pool costs about a second).
+PARALLEL_QUERIES = 400
+
+
+def _make_query(task: tuple) -> Any:
+    """One calibration query: a reference's bands re-measured in another preparation (drawn,
+    rendered and picked again), as the comparison sees them."""
+    raw, ref_prep, tokens, care, seed, enc = task
+    rng = np.random.default_rng(seed)
+    q = cal.measure(cal.perturb(raw, list(ref_prep), tokens, rng, care=care), rng)
+    return comparable_peaks(q, tokens, enc)
+
+
+def _make_queries(tasks: list) -> list:
+    """:func:`_make_query` of every task, in order: in worker processes (one per core) when
+    there are many and this process may start them, else here."""
+    import reflib.library.workers as workers
+
+    n = workers.worker_count(None, len(tasks), min_tasks=PARALLEL_QUERIES)
+    if n == 1:
+        return [_make_query(t) for t in tasks]
+    with workers.start_pool(n) as pool:
+        return list(workers.ordered_map(pool, _make_query, tasks, chunksize=32))
 
 
 def calibrate(

@@ -153,3 +153,26 @@ def test_the_top_two_candidates_likeness_is_high_within_a_family(big):
         w,
     )
     assert unlike < res.features["pair"] - 0.3
+
+
+def test_calibration_queries_do_not_depend_on_the_worker_count(monkeypatch):
+    """Each query has its own seed drawn in the calling process, so worker processes make the
+    same queries as this process does (common practice, no source)."""
+    from reflib.analysis.encode import DEFAULT_ENCODING
+    from reflib.library import calibrate as calmod
+
+    rng = np.random.default_rng(5)
+    raw = PeakList([1715.0, 2950.0, 1450.0, 1200.0, 3350.0], [1.0, 0.5, 0.4, 0.6, 0.3])
+    tasks = [
+        (raw, ("film",), cal.QUERY_PREPS[k % len(cal.QUERY_PREPS)], 0.5, int(s), DEFAULT_ENCODING)
+        for k, s in enumerate(rng.integers(2**63, size=12))
+    ]
+    here = [calmod._make_query(t) for t in tasks]
+    monkeypatch.setattr(calmod, "PARALLEL_QUERIES", 2)
+    monkeypatch.setenv("REFLIB_WORKERS", "2")
+    pooled = calmod._make_queries(tasks)
+    assert len(pooled) == len(here)
+    for a, b in zip(here, pooled):
+        assert np.array_equal(a.positions, b.positions)
+        assert np.array_equal(a.intensities, b.intensities)
+    assert len({tuple(q.positions.round(1)) for q in here}) > 1  # the seeds differ
