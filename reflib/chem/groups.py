@@ -948,13 +948,17 @@ def _minor_co(report: GroupReport, top: int) -> Callable[[Any, list[str]], list[
     return add
 
 
+def _is_c_o_stretch(row: bands.GroupFrequency) -> bool:
+    """Whether a table row is a C=O stretch (its ``expect`` token ``co...``, "C=O" in its
+    label)."""
+    return row.kind == "band" and row.expect.startswith("co") and "C=O" in row.label
+
+
 @lru_cache(maxsize=4)
 def _co_windows(phase: str) -> tuple[tuple[float, float], ...]:
     """The windows (cm-1) of the table's C=O stretch rows in ``phase``."""
     return tuple(
-        r.range_for(phase)
-        for r in bands.table()
-        if r.in_phase(phase) and r.kind == "band" and r.expect.startswith("co") and "C=O" in r.label
+        r.range_for(phase) for r in bands.table() if r.in_phase(phase) and _is_c_o_stretch(r)
     )
 
 
@@ -984,7 +988,7 @@ def _carbonyl_windows(phase: str) -> dict[str, tuple[tuple[float, float], ...]]:
     by_group: dict[str, list[tuple[float, float]]] = {}
     co_rows = set()
     for r in rows:
-        if r.kind == "band" and r.expect.startswith("co") and "C=O" in r.label:
+        if _is_c_o_stretch(r):
             co_rows.add(r.id)
             lo, hi = r.range_for(phase)
             tol = bands.position_tolerance((lo + hi) / 2)
