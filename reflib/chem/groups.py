@@ -931,9 +931,9 @@ MINOR_CO_LABEL = "C=O of a minor component?"
 def _minor_co(report: GroupReport, top: int) -> Callable[[Any, list[str]], list[str]]:
     """A function adding :data:`MINOR_CO_LABEL` to a weak band's labels in the C=O region when
     the analysis called the carbonyl class absent (leftover starting material, an oxidised
-    trace or an overtone, not the compound's own group). Condensed phase only (a crude; in the
-    gas phase such weak bands are mostly overtones and combinations), and not when the formula
-    given holds no oxygen."""
+    trace, not the compound's own group), unless the band already reads as an overtone.
+    Condensed phase only (a crude; in the gas phase such weak bands are mostly overtones and
+    combinations), and not when the formula given holds no oxygen."""
     no_oxygen = report.elements is not None and "O" not in report.elements
     if report.phase != "condensed" or no_oxygen or report.call("carbonyl").call != "absent":
         return lambda p, labels: labels
@@ -941,7 +941,8 @@ def _minor_co(report: GroupReport, top: int) -> Callable[[Any, list[str]], list[
     hi = max(w[1] for w in _co_windows(report.phase))
 
     def add(p: Any, labels: list[str]) -> list[str]:
-        if lo <= p.position <= hi and p.intensity < MINOR_CO_BELOW and not p.broad:
+        overtone = any("overtone" in t for t in labels)  # an aromatic's weak 1650-2000 bands
+        if lo <= p.position <= hi and p.intensity < MINOR_CO_BELOW and not p.broad and not overtone:
             return [*labels[: top - 1], MINOR_CO_LABEL]
         return labels
 

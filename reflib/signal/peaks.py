@@ -80,7 +80,7 @@ import numpy as np
 from reflib.errors import ValidationError
 from reflib.signal import filters1d
 from reflib.signal.peakfind import find_peaks, local_maxima, peak_widths, select_by_distance
-from reflib.signal.pedestal import broad_beneath
+from reflib.signal.pedestal import broad_beneath, widths_above
 from reflib.spectrum import MIN_TRANSMITTANCE, PeakList, Spectrum, strength_word
 
 #: Baseline methods understood by :func:`baseline` and :func:`pick_peaks`.
@@ -681,10 +681,28 @@ def pick_peaks(
     # Broad bands beneath sharp ones (the H-bonded O-H under a terminal alkyne's C-H), which
     # have no maximum of their own: from an opening of the trace (reflib.signal.pedestal).
     limit = np.where(positions > broad_split_cm1, broad_fwhm_cm1, broad_fwhm_low_cm1)
+    wide = np.nan_to_num(fwhm, nan=0.0) > limit
     b_pos, b_h, b_w = broad_beneath(
-        x, ys, float(noise.min()), positions, np.nan_to_num(fwhm, nan=0.0) > limit, min_snr=min_snr
+        x, ys, float(noise.min()), positions, wide & ~shoulder, min_snr=min_snr
     )
     if b_pos.size:
+        # a broad shoulder the second derivative found on the same band is superseded
+        gone = np.zeros(positions.size, bool)
+        for centre, width in zip(b_pos.tolist(), b_w.tolist()):
+            gone |= wide & shoulder & (np.abs(positions - centre) <= width / 2.0)
+        if gone.any():
+            keep = ~gone
+            positions, heights, fwhm = positions[keep], heights[keep], fwhm[keep]
+            saturated, shoulder, limit = saturated[keep], shoulder[keep], limit[keep]
+        # a sharp band standing on a broad one: its own width, measured above the envelope
+        on = np.zeros(positions.size, bool)
+        for centre, width in zip(b_pos.tolist(), b_w.tolist()):
+            on |= np.abs(positions - centre) <= width / 2.0
+        on &= ~(np.nan_to_num(fwhm, nan=0.0) > limit)
+        if on.any():
+            own = widths_above(x, ys, positions[on])
+            own = np.sqrt(np.maximum(own**2 - smooth_fwhm**2, 0.25 * own**2))
+            fwhm[on] = np.fmin(fwhm[on], own)
         positions = np.concatenate([positions, b_pos])
         heights = np.concatenate([heights, b_h])
         fwhm = np.concatenate([fwhm, b_w])

@@ -79,10 +79,9 @@ def broad_beneath(
     if x.size < 5 or not np.isfinite(y).all():
         return none
     step = float(x[1] - x[0])
-    size = max(3, int(round(opening_cm1 / step)) | 1)
-    if size >= x.size:
+    if max(3, int(round(opening_cm1 / step)) | 1) >= x.size:
         return none
-    env = filters1d.maximum_filter1d(filters1d.minimum_filter1d(y, size), size)
+    env = _opening(y, step, opening_cm1)
     top = float(y.max())
     if top <= 0:
         return none
@@ -125,14 +124,39 @@ def _wings(
     """The highest wing that the sharp bands at ``sharp`` (cm-1) leave in an opening of
     ``opening_cm1``: each band's height above the envelope, h, and its width at half that
     height, w, give h / (1 + (L / w)^2)."""
-    step = float(x[1] - x[0])
     worst = 0.0
     for p in sharp.tolist():
-        j = int(np.clip(np.searchsorted(x, p), 0, x.size - 1))
-        above = float(y[j] - env[j])
-        if above <= 0:
-            continue
-        left, right = _half_crossings(y - env, j, above / 2.0)
-        w = max((right - left) * step, step)
-        worst = max(worst, above / (1.0 + (opening_cm1 / w) ** 2))
+        above, w = _above(x, y, env, p)
+        if above > 0:
+            worst = max(worst, above / (1.0 + (opening_cm1 / w) ** 2))
     return worst
+
+
+def _above(x: np.ndarray, y: np.ndarray, env: np.ndarray, p: float) -> tuple[float, float]:
+    """Height of the band at ``p`` (cm-1) above the envelope, and its width (cm-1) at half
+    that height (0, nan when it does not stand above it)."""
+    step = float(x[1] - x[0])
+    j = int(np.clip(np.searchsorted(x, p), 0, x.size - 1))
+    above = float(y[j] - env[j])
+    if above <= 0:
+        return 0.0, float("nan")
+    left, right = _half_crossings(y - env, j, above / 2.0)
+    return above, max((right - left) * step, step)
+
+
+def widths_above(
+    x: np.ndarray, y: np.ndarray, positions: np.ndarray, *, opening_cm1: float = OPENING_CM1
+) -> np.ndarray:
+    """FWHM (cm-1) of the bands at ``positions`` measured above the envelope of the broad
+    bands they stand on (NaN where a band does not stand above it): a sharp band's own width,
+    not swollen by the broad band's shoulders."""
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    env = _opening(y, float(x[1] - x[0]), opening_cm1)
+    return np.array([_above(x, y, env, float(p))[1] for p in np.asarray(positions, float)])
+
+
+def _opening(y: np.ndarray, step: float, opening_cm1: float) -> np.ndarray:
+    """Running minimum, then running maximum, over ``opening_cm1`` (an odd number of points)."""
+    size = max(3, int(round(opening_cm1 / step)) | 1)
+    return filters1d.maximum_filter1d(filters1d.minimum_filter1d(y, size), size)

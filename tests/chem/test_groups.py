@@ -230,3 +230,17 @@ def test_weak_band_in_the_c_o_region_of_a_compound_without_carbonyl() -> None:
     ketone = _pl([*ALKYL, (1715, 1.0), (1365, 0.5), (1220, 0.4)])
     klabels = groups.band_labels(ketone)
     assert not any(groups.MINOR_CO_LABEL in v for v in klabels)
+
+
+def test_a_weak_band_read_as_an_overtone_is_not_also_a_minor_c_o() -> None:
+    """An aromatic alcohol's weak bands between 1650 and 2000 cm-1 are the ring's overtone and
+    combination bands (handbook, from memory): not offered as another compound's C=O."""
+    pl = _pl(
+        [*ALKYL, (3350, 0.6), (3030, 0.2), (1600, 0.6), (1500, 0.7), (1100, 0.8), (750, 0.9)]
+        + [(1950, 0.04), (1870, 0.03), (1790, 0.03)],
+        broad=(3350,),
+    )
+    labels = groups.band_labels(pl)
+    for pos, lab in zip(pl.positions.tolist(), labels):
+        if any("overtone" in t for t in lab):
+            assert groups.MINOR_CO_LABEL not in lab, (pos, lab)

@@ -69,3 +69,20 @@ def test_a_faint_pedestal_under_a_strong_band_is_not_told_from_its_wings():
     y = gauss(3330, 250, 0.02) + lorentz(3300, 25, 0.5) + ALKYL
     sharp = np.array([2870.0, 2960.0, 3300.0])
     assert broad_beneath(X, y, 0.0001, sharp, np.zeros(3, bool), min_relative=0.01)[0].size == 0
+
+
+def test_the_sharp_band_keeps_its_own_width_on_the_broad_one():
+    """Picked from a whole spectrum: the O-H (FWHM 250) and the alkyne C-H on it (FWHM 25)
+    come out as two bands, each with about its own width."""
+    from reflib.signal.peaks import pick_peaks
+    from reflib.signal.pedestal import widths_above
+    from reflib.spectrum import Spectrum
+
+    y = gauss(3330, 250, 0.4) + lorentz(3300, 25, 0.5) + ALKYL + 0.01
+    assert abs(widths_above(X, y, np.array([3300.0]))[0] - 25) <= 5
+    pl = pick_peaks(Spectrum(X, y))
+    oh = np.flatnonzero(np.abs(pl.positions - 3330) <= 20)
+    ch = np.flatnonzero(np.abs(pl.positions - 3300) <= 3)
+    assert oh.size == 1 and ch.size == 1, pl.to_text()
+    assert pl.broad[oh[0]] and not pl.broad[ch[0]]
+    assert 18 <= pl.widths[ch[0]] <= 32 and 180 <= pl.widths[oh[0]] <= 320
