@@ -48,6 +48,15 @@ def strength_word(relative_intensity: float) -> str:
     return "vw"
 
 
+def _strength_words(relative: np.ndarray) -> list[str]:
+    """:func:`strength_word` of each relative intensity (one look-up for the whole array)."""
+    words = list(STRENGTH_WORDS)  # strongest first, each with its lowest relative intensity
+    lowest = np.array([STRENGTH_WORDS[w][0] for w in words])
+    # the first word whose lowest intensity the band reaches; "vw" when it reaches none
+    at = (np.asarray(relative)[:, None] < lowest[None, :]).sum(axis=1)
+    return [words[min(int(i), len(words) - 1)] for i in at.tolist()]
+
+
 def word_intensity(word: str) -> float:
     """The relative intensity (0..1) assumed for a strength word given without a number."""
     try:
@@ -273,9 +282,7 @@ class PeakList:
         if (widths <= 0).any():  # NaN (width unknown) compares False
             raise ValidationError("band widths must be positive cm-1")
         strengths = (
-            [strength_word(v) for v in inten]
-            if self.strengths is None
-            else [str(s) for s in self.strengths]
+            _strength_words(inten) if self.strengths is None else [str(s) for s in self.strengths]
         )
         if len(strengths) != n:
             raise ValidationError(f"{n} positions but {len(strengths)} strength words")
@@ -314,16 +321,18 @@ class PeakList:
         return int(self.positions.size)
 
     def __iter__(self) -> Iterator[Peak]:
-        for i in range(len(self)):
-            yield Peak(
-                float(self.positions[i]),
-                float(self.intensities[i]),
-                float(self.widths[i]),
-                self.strengths[i],
-                bool(self.broad[i]),
-                bool(self.shoulder[i]),
-                None if self.labels is None else self.labels[i],
-            )
+        # one conversion of each column to Python objects, not one per band and field
+        labels = self.labels if self.labels is not None else [None] * len(self)
+        return map(
+            Peak,
+            self.positions.tolist(),
+            self.intensities.tolist(),
+            self.widths.tolist(),
+            self.strengths,
+            self.broad.tolist(),
+            self.shoulder.tolist(),
+            labels,
+        )
 
     def subset(self, idx: np.ndarray | Sequence[int]) -> PeakList:
         """The bands at the given indices (into the ascending order), same metadata."""

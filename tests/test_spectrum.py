@@ -5,6 +5,7 @@ import pytest
 
 from reflib.errors import ReflibError, ValidationError
 from reflib.spectrum import (
+    STRENGTH_WORDS,
     PeakList,
     Spectrum,
     absorbance_to_transmittance,
@@ -65,6 +66,17 @@ def test_peaklist_normalises_sorts_and_names_strengths():
 def test_strength_word_thresholds_are_ordered():
     values = [strength_word(v) for v in (1.0, 0.6, 0.3, 0.1, 0.01)]
     assert values == ["vs", "s", "m", "w", "vw"]
+
+
+def test_peak_list_words_its_bands_as_strength_word_does():
+    # the list words every band at once; each word must be the one the single-band rule gives,
+    # on and either side of every threshold (common practice, no source: the strength words)
+    edges = [lo for lo, _ in STRENGTH_WORDS.values()]
+    values = sorted({min(max(e + d, 0.0), 1.0) for e in edges for d in (-1e-9, 0.0, 1e-9)} | {1.0})
+    pl = PeakList(np.arange(1000.0, 1000.0 + 10 * len(values), 10.0), values)
+    assert pl.intensities.tolist() == values  # the strongest is 1: nothing rescaled
+    assert [p.strength for p in pl] == [strength_word(v) for v in pl.intensities]
+    assert len(set(p.strength for p in pl)) == len(STRENGTH_WORDS)
 
 
 def test_errors_name_file_and_line():

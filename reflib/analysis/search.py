@@ -13,6 +13,7 @@ that needs one weight vector and one matrix product; the ranking is exact.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Any
 
 import numpy as np
@@ -188,8 +189,10 @@ def atr_side(query_prep, ref_prep) -> str | None:
     return "query" if q else "ref"
 
 
+@lru_cache(maxsize=8)
 def atr_factor(enc: Encoding) -> np.ndarray:
-    """Per-bin factor an ATR vector is multiplied by to compare with transmission.
+    """Per-bin factor an ATR vector is multiplied by to compare with transmission (read-only,
+    computed once per encoding).
 
     The intensity correction is :func:`reflib.chem.prep.atr_correction` (``x / 1000``); a
     vector holds tempered intensities, so the factor is the correction tempered the same way
@@ -197,7 +200,9 @@ def atr_factor(enc: Encoding) -> np.ndarray:
     approximation).
     """
     f = prep_mod.atr_correction(enc.grid(), np.ones(enc.size), reference_cm1=ATR_REFERENCE_CM1)
-    return f if enc.transform == "linear" else np.sqrt(f)
+    out = f if enc.transform == "linear" else np.sqrt(f)
+    out.setflags(write=False)
+    return out
 
 
 #: O-H and N-H stretches move and change shape between phases: hydrogen-bonded and broad in a
@@ -276,41 +281,55 @@ def score_block(
     out: np.ndarray | None = None,
     *,
     norms: np.ndarray | None = None,
+    inv_norms: np.ndarray | None = None,
 ) -> np.ndarray:
     """:func:`weighted_cosine` for queries ``q`` (m, bins) against ``refs``: an (n, m) array.
 
     ``norms`` are the references' weighted norms (:func:`weighted_norms` of ``refs`` and ``w``)
-    when already known. The scores are computed in float32, in place, in ``out`` when given.
+    when already known, or ``inv_norms`` their float32 inverses (:func:`inverse_norms`, 0 for
+    an empty row). The scores are computed in float32, in place, in ``out`` when given.
     """
     q = np.atleast_2d(np.asarray(q, dtype=np.float64))
     w64 = np.asarray(w, dtype=np.float64)
-    rn = weighted_norms(refs, w64) if norms is None else norms
-    wq = (q * w64).astype(np.float32).T.copy()  # (bins, m)
-    qn = np.sqrt(np.einsum("ij,ij->i", q * w64, q))  # (m,)
-    with np.errstate(divide="ignore"):
-        inv_r = np.where(rn > 0, 1.0 / rn, 0.0).astype(np.float32)
-        inv_q = np.where(qn > 0, 1.0 / qn, 0.0).astype(np.float32)
+    if inv_norms is None:
+        inv_norms = inverse_norms(weighted_norms(refs, w64) if norms is None else norms)
+    qw = q * w64
+    wq = qw.astype(np.float32).T.copy()  # (bins, m)
+    qn = np.sqrt(np.einsum("ij,ij->i", qw, q))  # (m,)
     shape = (refs.shape[0], q.shape[0])
     into = out if out is not None and out.dtype == np.float32 else np.empty(shape, np.float32)
     # float32 and in place: for a batch the (refs x queries) block is the big array
     np.matmul(np.asarray(refs), wq, out=into)
-    into *= inv_r[:, None]
-    into *= inv_q[None, :]
-    np.clip(into, 0.0, 1.0, out=into)
+    if q.shape[0] == 1:  # one query: its norm folds into the one pass over the column
+        into *= (inv_norms * np.float32(1.0 / qn[0] if qn[0] > 0 else 0.0))[:, None]
+    else:
+        into *= inv_norms[:, None]
+        into *= inverse_norms(qn)[None, :]
+    # a cosine of non-negative vectors lies in [0, 1]; only rounding takes it over 1
+    np.minimum(into, np.float32(1.0), out=into)
     if out is not None and into is not out:
         out[...] = into
         return out
     return into
 
 
+def inverse_norms(norms: np.ndarray) -> np.ndarray:
+    """1 / norm as float32, 0 where the norm is 0 (an empty vector scores 0 against anything)."""
+    norms = np.asarray(norms, dtype=np.float64)
+    with np.errstate(divide="ignore"):
+        return np.where(norms > 0, 1.0 / norms, 0.0).astype(np.float32)
+
+
 def _group_norms(index, g, w: np.ndarray) -> np.ndarray:
+    """The float32 inverse weighted norms of a group's references, cached on the index per
+    weight vector."""
     import hashlib
 
     key = (g.start, g.stop, hashlib.blake2b(w.tobytes(), digest_size=16).digest())
     cache = index.norms
     rn = cache.get(key)
     if rn is None:
-        rn = weighted_norms(index.matrix[g.start : g.stop], w)
+        rn = inverse_norms(weighted_norms(index.matrix[g.start : g.stop], w))
         if len(cache) >= NORM_CACHE_SIZE:
             cache.pop(next(iter(cache)))
         cache[key] = rn
@@ -355,7 +374,8 @@ def score_index(
                 qg = q / factor
                 w = w * factor**2
         refs = index.matrix[g.start : g.stop]
-        score_block(qg, refs, w, out=scores[g.start : g.stop], norms=_group_norms(index, g, w))
+        inv = _group_norms(index, g, w)
+        score_block(qg, refs, w, out=scores[g.start : g.stop], inv_norms=inv)
     return scores
 
 

@@ -37,7 +37,8 @@ from __future__ import annotations
 import csv
 import math
 import re
-from collections.abc import Callable, Iterable, Sequence
+from bisect import bisect_left, bisect_right
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
@@ -344,6 +345,35 @@ class _Band:
     broad: bool
 
 
+class _Bands:
+    """Bands ascending by position, looked up by window (bisection, not a scan of every band)."""
+
+    def __init__(self, items: Iterable[_Band]) -> None:
+        self.items = sorted(items, key=lambda b: b.position)
+        self.positions = [b.position for b in self.items]
+
+    def __iter__(self) -> Iterator[_Band]:
+        return iter(self.items)
+
+    def __len__(self) -> int:
+        return len(self.items)
+
+    def between(self, lo: float, hi: float) -> list[_Band]:
+        """The bands with ``lo <= position <= hi``, ascending."""
+        return self.items[bisect_left(self.positions, lo) : bisect_right(self.positions, hi)]
+
+
+@lru_cache(maxsize=256)
+def _rules_of(group: str, phase: str) -> tuple[Rule, ...]:
+    """The rule rows of ``group`` that apply in ``phase``, in table order."""
+    return tuple(r for r in rules() if r.group == group and r.in_phase(phase))
+
+
+@lru_cache(maxsize=1)
+def _air_co2_rows() -> tuple[bands.GroupFrequency, ...]:
+    return tuple(row for row in bands.table() if row.id.startswith("air_co2"))
+
+
 def _is_broad(p: Peak) -> bool:
     return bool(p.broad) or (math.isfinite(p.width) and p.width > bands.BROAD_WIDTH_CM1)
 
@@ -358,7 +388,7 @@ def _shape_ok(b: _Band, shape: str, phase: str) -> bool:
 
 
 def _explain(
-    peaks: PeakList, prep: Sequence[str], phase: str
+    peaks: Sequence[Peak], prep: Sequence[str], phase: str
 ) -> tuple[dict[float, str], float | None]:
     """Bands that are no group's: the preparation's own bands and the C=O overtone."""
     from reflib.chem import prep as prep_mod
@@ -382,8 +412,8 @@ def _explain(
                     break
     for p in peaks:  # the air's CO2, weak: a purge that was not perfect
         if p.position not in explained and _LEVEL[p.strength] <= _LEVEL["w"]:
-            for row in bands.table():
-                if row.id.startswith("air_co2") and row.lo_cm1 <= p.position <= row.hi_cm1:
+            for row in _air_co2_rows():
+                if row.lo_cm1 <= p.position <= row.hi_cm1:
                     explained[p.position] = row.label
     co = _strongest_co(peaks, explained, phase)
     if co is not None:
@@ -395,7 +425,7 @@ def _explain(
     return explained, co
 
 
-def _strongest_co(peaks: PeakList, explained: dict[float, str], phase: str) -> float | None:
+def _strongest_co(peaks: Sequence[Peak], explained: dict[float, str], phase: str) -> float | None:
     rule = next(r for r in rules() if r.group == "carbonyl")
     lo, hi = rule.window(phase)
     found = [
@@ -484,20 +514,21 @@ def analyse(
             covered = (min(positions) - 50.0, max(positions) + 50.0)
         else:
             covered = (0.0, 0.0)
-    floor = min((float(p.intensity) for p in peaks), default=1.0)
+    floor = float(peaks.intensities.min()) if len(peaks) else 1.0
     if noise is not None:
         floor = max(floor, 3.0 * noise)
-    explained, co = _explain(peaks, tokens, phase)
-    usable = [
+    listed = list(peaks)
+    explained, co = _explain(listed, tokens, phase)
+    usable = _Bands(
         _Band(p.position, p.intensity, _LEVEL[p.strength], _is_broad(p))
-        for p in peaks
+        for p in listed
         if p.position not in explained
-    ]
+    )
     # the C=O band (both branches in the gas) is the carbonyl's: no other group's evidence
     near_co = 2.0 * bands.GAS_BRANCH_CM1 if phase == "gas" else CONDENSED_TOLERANCE_CM1
-    not_co = [
+    not_co = _Bands(
         b for b in usable if co is None or abs(b.position - co) > near_co or b.level < _LEVEL["m"]
-    ]
+    )
     calls = [
         _call_group(
             g,
@@ -535,22 +566,20 @@ def analyse(
 OVERTONE_MAX_STRENGTH = "vw"
 
 
-def _seen(rule: Rule, usable: Sequence[_Band], phase: str) -> _Band | None:
+def _seen(rule: Rule, usable: _Bands, phase: str) -> _Band | None:
     lo, hi = rule.window(phase)
     top = _LEVEL[OVERTONE_MAX_STRENGTH] if "overtone" in rule.role else _LEVEL["vs"]
     found = [
         b
-        for b in usable
-        if lo <= b.position <= hi
-        and _LEVEL[rule.min_strength] <= b.level <= top
-        and _shape_ok(b, rule.shape, phase)
+        for b in usable.between(lo, hi)
+        if _LEVEL[rule.min_strength] <= b.level <= top and _shape_ok(b, rule.shape, phase)
     ]
     return max(found, key=lambda b: b.intensity) if found else None
 
 
 def _clean(
     rule: Rule,
-    usable: Sequence[_Band],
+    usable: _Bands,
     phase: str,
     prep: Sequence[str],
     covered: tuple[float, float],
@@ -563,12 +592,12 @@ def _clean(
     if floor > EXPECTED_AT_LEAST[rule.min_strength]:
         return False
     level = _LEVEL[rule.min_strength] - 1
-    return not any(lo <= b.position <= hi and b.level >= level for b in usable)
+    return not any(b.level >= level for b in usable.between(lo, hi))
 
 
 def _call_group(
     g: GroupDef,
-    usable: Sequence[_Band],
+    usable: _Bands,
     phase: str,
     prep: Sequence[str],
     elements: frozenset[str] | None,
@@ -580,7 +609,7 @@ def _call_group(
         return GroupCall(
             g.name, "absent", 0.0, [], [f"the formula holds no {', '.join(missing)}"], True
         )
-    mine = [r for r in rules() if r.group == g.name and r.in_phase(phase)]
+    mine = _rules_of(g.name, phase)
     evidence: list[Evidence] = []
     key_sets: dict[str, list[tuple[Rule, bool]]] = {}
     supports = 0
@@ -633,7 +662,7 @@ def _call_group(
 def _absent(
     mine: Sequence[Rule],
     key_sets: dict[str, list[tuple[Rule, bool]]],
-    usable: Sequence[_Band],
+    usable: _Bands,
     phase: str,
     prep: Sequence[str],
     covered: tuple[float, float],

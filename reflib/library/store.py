@@ -36,6 +36,8 @@ import uuid
 import zlib
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
+from itertools import groupby
+from operator import itemgetter
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -648,12 +650,13 @@ class Store:
         if missing:
             raise NotFoundError(f"no spectrum {missing[0]} in the library")
         rows: dict[int, list] = {i: [] for i in ids}
-        for r in self.conn.execute(
+        found = self.conn.execute(
             "SELECT spectrum_id, position, intensity, width, strength, broad, shoulder, label "
             f"FROM peaks WHERE spectrum_id IN ({marks}) ORDER BY spectrum_id, position",
             ids,
-        ):
-            rows[r[0]].append(r[1:])
+        ).fetchall()
+        for sid, group in groupby(found, key=itemgetter(0)):
+            rows[sid] = [r[1:] for r in group]
         return {i: peaks_from_rows(rows[i], recs[i]) for i in ids}
 
     def full_spectrum(self, spectrum_id: int) -> Spectrum | None:
@@ -714,7 +717,7 @@ def peaks_from_rows(rows: list, rec: Any) -> PeakList:
     return PeakList(
         np.array(pos, float),
         np.array(inten, float),
-        np.array([np.nan if w is None else w for w in width], float),
+        np.array(width, float),  # NULL (width unknown) becomes NaN
         list(strength),
         np.array(broad, bool),
         np.array(shoulder, bool),
