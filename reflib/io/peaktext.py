@@ -457,18 +457,14 @@ def _read_parenthesis(
     return tuple(descriptors), tuple(labels), None
 
 
-class _Parser:
+class _Located:
+    """A text with line and column look-ups for error messages."""
+
     def __init__(self, text: str, source: str | None):
         self.original = text
         self.text = _normalise(text)
         self.source = source
-        self.toks = _tokens(self.text)
-        self.starts = [t.start for t in self.toks]
-        self.i = 0
-        self.stop = len(self.toks)
-        self.segment_mode = False
 
-    # -- errors -----------------------------------------------------------------------------
     def where(self, start: int) -> tuple[int, int]:
         line = self.text.count("\n", 0, start) + 1
         col = start - (self.text.rfind("\n", 0, start) + 1) + 1
@@ -483,6 +479,16 @@ class _Parser:
     def at(self, start: int) -> str:
         line, col = self.where(start)
         return f"line {line}, column {col}"
+
+
+class _Parser(_Located):
+    def __init__(self, text: str, source: str | None):
+        super().__init__(text, source)
+        self.toks = _tokens(self.text)
+        self.starts = [t.start for t in self.toks]
+        self.i = 0
+        self.stop = len(self.toks)
+        self.segment_mode = False
 
     def tok_index(self, char: int) -> int:
         """Index of the first token starting at or after character ``char``."""
@@ -854,23 +860,100 @@ class _Parser:
         return out
 
 
-def _peak_list(parser: _Parser, seg: _Segment, text: str, source: str | None) -> PeakList:
-    bands = seg.bands
-    seen: dict[float, int] = {}
-    for b in bands:
-        if b.position in seen:
-            first_line, _ = parser.where(seen[b.position])
-            raise parser.error(
-                f"band {b.position:g} cm-1 is given twice (first on line {first_line})", b.start
+# -- the plain form, read without the tokenizer ------------------------------------------------
+
+#: One band of the plain form: a position with at most two words in parentheses.
+_PLAIN_WORD = r"(?:vs|s|m|w|vw|br|sh)"
+_PLAIN_BAND = (
+    rf"(?P<pos>\d{{3,4}}(?:\.\d+)?)(?:\ \((?P<words>{_PLAIN_WORD}(?:,\ {_PLAIN_WORD})?)\))?"
+)
+_PLAIN_ANY = re.sub(r"\?P<\w+>", "?:", _PLAIN_BAND)
+#: The plain form: one line, an optional ``IR (preparation):`` prefix, bands separated by
+#: ``", "`` and the unit ``cm-1`` at the end. It is how reflib writes a list
+#: (:meth:`PeakList.to_text`) and how most typed lists look; everything else is tokenized.
+_PLAIN = re.compile(
+    rf"[ \t]*(?:(?P<ir>IR)\ \((?P<prep>[A-Za-z][A-Za-z0-9]*)\):?\ )?"
+    rf"(?P<bands>{_PLAIN_ANY}(?:,\ {_PLAIN_ANY})*)\ cm-1[ \t]*\n?"
+)
+_PLAIN_ONE = re.compile(_PLAIN_BAND)
+
+
+def _plain_words() -> dict[str, tuple[str | None, bool, bool]]:
+    """Every parenthesis of the plain form that the parser accepts -> (strength, broad,
+    shoulder); a band without one is ``""``. Two different strength words are left out (the
+    parser refuses them)."""
+    words = ["vs", "s", "m", "w", "vw", "br", "sh"]
+    out: dict[str, tuple[str | None, bool, bool]] = {"": (None, False, False)}
+    for combo in [[a] for a in words] + [[a, b] for a in words for b in words]:
+        strengths = [w for w in combo if w in _STRENGTHS]
+        if len(set(strengths)) <= 1:  # 'vs, vs' is one strength; 'vs, w' is refused
+            out[", ".join(combo)] = (
+                strengths[0] if strengths else None,
+                "br" in combo,
+                "sh" in combo,
             )
-        seen[b.position] = b.start
+    return out
+
+
+_PLAIN_DESCRIBED = _plain_words()
+
+
+def _plain_peaks(text: str, source: str | None) -> PeakList | None:
+    """The peak list of a text in the plain form (:data:`_PLAIN`), the same one the tokenizing
+    parser reads from it; None for any other text, and for one the parser refuses (a position
+    out of range, a position given twice, two strength words), so that the parser gives the
+    error with its line and column."""
+    m = _PLAIN.fullmatch(text)
+    if m is None:
+        return None
+    prep: list[str] = []
+    if m.group("ir") is not None:
+        token = PREP_WORDS.get(m.group("prep").lower())
+        if token is None or token == "fluorocarbon":  # a word that needs more words around it
+            return None
+        prep = [token]
+    found = _PLAIN_ONE.findall(text, m.start("bands"), m.end("bands"))
+    positions = [float(pos) for pos, _ in found]
+    if min(positions) < MIN_POSITION or max(positions) > MAX_POSITION:
+        return None
+    if len(set(positions)) != len(positions):
+        return None
+    described = [_PLAIN_DESCRIBED.get(words) for _, words in found]
+    if None in described:
+        return None
+    broad = [d[1] for d in described]  # type: ignore[index]
+    widths = [
+        (BROAD_WIDTH_HIGH if x > BROAD_SPLIT else BROAD_WIDTH_LOW) if b else np.nan
+        for x, b in zip(positions, broad)
+    ]
+    given = [d[0] for d in described]  # type: ignore[index]
+    start = m.start("ir") if m.group("ir") is not None else m.start("bands")
+    seg = _Segment(prep, None, [], start, m.end("bands") + len(" cm-1"), m.group("ir"))
+    meta = _meta(_Located(text, source), seg, text, source, given)
+    strengths = [g or "m" for g in given]
+    return PeakList(
+        positions=np.array(positions),
+        intensities=np.array([word_intensity(w) for w in strengths]),
+        widths=np.array(widths),
+        strengths=strengths,
+        broad=np.array(broad, dtype=bool),
+        shoulder=np.array([d[2] for d in described], dtype=bool),  # type: ignore[index]
+        meta=meta,
+    )
+
+
+def _meta(
+    parser: _Located, seg: _Segment, text: str, source: str | None, given: list[str | None]
+) -> Metadata:
+    """The metadata of a segment's peak list; ``given`` holds each band's strength word as
+    typed (None where there was none)."""
     meta = Metadata(prep=seg.prep)
     if source is not None:
         meta.source_file = Path(source).name
-    given = sum(b.strength is not None for b in bands)
-    if given == 0:
+    n_given = sum(g is not None for g in given)
+    if n_given == 0:
         meta.extra["intensities"] = "not given"
-    elif given < len(bands):
+    elif n_given < len(given):
         meta.extra["intensities"] = "partly given"
     if seg.prep_text:
         meta.extra["prep_text"] = seg.prep_text
@@ -883,6 +966,20 @@ def _peak_list(parser: _Parser, seg: _Segment, text: str, source: str | None) ->
             if l1 == l2
             else f"line {l1} column {c1} to line {l2} column {c2}"
         )
+    return meta
+
+
+def _peak_list(parser: _Parser, seg: _Segment, text: str, source: str | None) -> PeakList:
+    bands = seg.bands
+    seen: dict[float, int] = {}
+    for b in bands:
+        if b.position in seen:
+            first_line, _ = parser.where(seen[b.position])
+            raise parser.error(
+                f"band {b.position:g} cm-1 is given twice (first on line {first_line})", b.start
+            )
+        seen[b.position] = b.start
+    meta = _meta(parser, seg, text, source, [b.strength for b in bands])
     strengths = [b.strength or "m" for b in bands]
     labels = [b.label for b in bands]
     return PeakList(
@@ -906,6 +1003,9 @@ def parse_peak_texts(text: str, *, source: str | None = None) -> list[PeakList]:
     >>> [pl.meta.prep for pl in parse_peak_texts("IR (KBr) 3320, 1680 cm-1; IR (CHCl3) 3440 cm-1")]
     [['kbr'], ['chcl3']]
     """
+    plain = _plain_peaks(text, source)
+    if plain is not None:
+        return [plain]
     parser = _Parser(text, source)
     return [_peak_list(parser, seg, text, source) for seg in parser.segments()]
 
@@ -948,6 +1048,9 @@ def parse_peak_text(text: str, *, source: str | None = None) -> PeakList:
     >>> float(pl.widths[1])
     150.0
     """
+    plain = _plain_peaks(text, source)
+    if plain is not None:
+        return plain
     parser = _Parser(text, source)
     segments = parser.segments()
     if len(segments) > 1:

@@ -15,7 +15,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from reflib.errors import ReadError, ReflibError
-from reflib.io.peaktext import looks_like_peak_text, parse_peak_text, parse_peak_texts
+from reflib.io.peaktext import (
+    PREP_WORDS,
+    looks_like_peak_text,
+    parse_peak_text,
+    parse_peak_texts,
+)
 from reflib.spectrum import STRENGTH_WORDS
 
 
@@ -555,3 +560,87 @@ def test_compare_labels_with_reflibs_correlation_table():
     assert notes[1745.0].agree is True and "C=O" in notes[1745.0].reflib
     assert notes[2250.0].agree is True and "C#N" in notes[2250.0].reflib
     assert notes[1745.0].text.startswith("author says C=O at 1745; reflib: ")
+
+
+# -- the plain form, read without the tokenizer -------------------------------------------------
+
+
+def _tokenized(text, source):
+    """The tokenizing parser's reading of ``text``, bypassing the plain-form reader."""
+    from reflib.io import peaktext
+
+    parser = peaktext._Parser(text, source)
+    return [peaktext._peak_list(parser, seg, text, source) for seg in parser.segments()]
+
+
+def _same_lists(a, b):
+    assert a.meta == b.meta
+    for name in ("positions", "intensities", "widths", "broad", "shoulder"):
+        assert np.array_equal(getattr(a, name), getattr(b, name), equal_nan=True), name
+    assert list(a.strengths) == list(b.strengths) and a.labels == b.labels
+
+
+_PLAIN_WORDS = ["vs", "s", "m", "w", "vw", "br", "sh"]
+_PREP_WORDS = sorted(PREP_WORDS)  # every preparation word a prefix may hold
+
+
+@st.composite
+def _plain_texts(draw):
+    n = draw(st.integers(1, 12))
+    # positions near and beyond the accepted range, with and without decimals; repeats allowed
+    positions = draw(
+        st.lists(
+            st.one_of(
+                st.integers(95, 5005).map(str),
+                st.floats(100, 4999, allow_nan=False).map(lambda x: f"{x:.1f}"),
+            ),
+            min_size=n,
+            max_size=n,
+        )
+    )
+    bands = []
+    for pos in positions:
+        words = draw(st.lists(st.sampled_from(_PLAIN_WORDS), max_size=2))
+        bands.append(f"{pos} ({', '.join(words)})" if words else pos)
+    prefix = ""
+    if draw(st.booleans()):
+        word = draw(st.sampled_from(_PREP_WORDS))
+        word = draw(st.sampled_from([word, word.upper(), word.capitalize()]))
+        prefix = f"IR ({word}){draw(st.sampled_from([':', '']))} "
+    ending = draw(st.sampled_from(["", "\n", "  ", " \n"]))
+    return f"{prefix}{', '.join(bands)} cm-1{ending}"
+
+
+@settings(max_examples=400, deadline=None)
+@given(_plain_texts())
+def test_plain_form_reads_as_the_tokenizing_parser_does(text):
+    # The plain form ('IR (film): 3350 (s, br), 1715 (vs) cm-1') is read by a regular
+    # expression instead of the tokenizer; both must give the same list, or the same refusal
+    # (a position out of range, given twice, two strength words).
+    try:
+        expected = _tokenized(text, "notebook/p1.txt")
+    except ReadError as exc:
+        with pytest.raises(ReadError) as got:
+            parse_peak_texts(text, source="notebook/p1.txt")
+        assert str(got.value) == str(exc)
+        return
+    from reflib.io import peaktext
+
+    # the plain-form reader took it: it leaves to the tokenizer only 'fluorocarbon' (which
+    # needs the word 'mull' beside it) and the hyphenated 'ATR-IR' and 'ATR-FTIR'
+    low = text.lower()
+    assert peaktext._plain_peaks(text, None) is not None or "fluorocarbon" in low or "atr-" in low
+    got = parse_peak_texts(text, source="notebook/p1.txt")
+    assert len(got) == len(expected) == 1
+    _same_lists(got[0], expected[0])
+
+
+def test_plain_form_takes_the_lists_reflib_writes():
+    from reflib.io import peaktext
+
+    text = "IR (KBr): 3350 (m, br), 1715 (vs), 1240 (w, sh), 1100 cm-1\n"
+    assert peaktext._plain_peaks(text, None) is not None  # read without the tokenizer
+    pl = parse_peak_text(text)
+    assert peaktext._plain_peaks(pl.to_text(), None) is not None
+    _same_lists(parse_peak_text(pl.to_text()), _tokenized(pl.to_text(), None)[0])
+    assert pl.meta.extra["ir_segment_at"] == f"line 1, columns 1-{len(text.rstrip())}"
