@@ -146,6 +146,21 @@ def median_time(fn, repeat: int) -> float:
     return statistics.median(ts)
 
 
+def interleaved(fns: dict, repeat: int) -> dict:
+    """Median wall time (s) of each function over ``repeat`` rounds, one call of each per
+    round (after one warm-up call each): a ratio of two of them is then measured under the same
+    load, even when the machine's load changes during the run."""
+    for fn in fns.values():
+        fn()
+    times: dict = {k: [] for k in fns}
+    for _ in range(repeat):
+        for k, fn in fns.items():
+            t = time.perf_counter()
+            fn()
+            times[k].append(time.perf_counter() - t)
+    return {k: statistics.median(v) for k, v in times.items()}
+
+
 def vm_hwm_mb() -> float:
     """Peak resident memory of this process (MB), from /proc or getrusage."""
     try:
@@ -372,7 +387,32 @@ def measure(lib_path: str, n_single: int, n_batch: int, with_variants: bool) -> 
     dense = np.array(idx.matrix, dtype=np.float32)
     qv32 = [v.astype(np.float32) for v in qvecs]
     i_f = iter(range(10**9))
-    res["floor_single_s"] = median_time(lambda: dense @ qv32[next(i_f) % n_single], n_single)
+    from threadpoolctl import ThreadpoolController
+
+    blas = ThreadpoolController()  # made once: making one looks up every loaded library
+
+    def floor_default():
+        dense @ qv32[next(i_f) % n_single]
+
+    def floor_one_thread():
+        with blas.limit(limits=1, user_api="blas"):
+            dense @ qv32[next(i_f) % n_single]
+
+    # the search, the scoring and both floors again, taking turns call by call, so that the
+    # other jobs of a shared machine weigh on all four alike; these medians are the figures
+    timed = interleaved(
+        {
+            "search_s": one_search,
+            "score_s": one_score,
+            "floor_default_s": floor_default,
+            "floor_one_thread_s": floor_one_thread,
+        },
+        n_single,
+    )
+    res.update(timed)
+    # the floor is the faster of the two: BLAS's own threads, or one (a single query is scored
+    # with one, reflib.analysis.search.SINGLE_QUERY_BLAS_THREADS)
+    res["floor_single_s"] = min(res["floor_default_s"], res["floor_one_thread_s"])
     q32 = qmat.astype(np.float32)
     t = time.perf_counter()
     _ = dense @ q32.T
@@ -697,6 +737,15 @@ def report(rows: list[dict], cli: dict | None, cli_size: int, n_batch: int, prof
     print(
         f"(search/floor: the whole lib.search, scoring and the explanation of the top 5, within "
         f"{TARGET_SEARCH_VS_FLOOR}x the floor from {TARGET_SEARCH_FROM} references on)"
+    )
+    print(
+        "(floor: one float32 matrix-vector product of the same shape, the faster of BLAS's "
+        "default threads and one thread: "
+        + ", ".join(
+            f"{r['n']}: {r['floor_default_s'] * 1e3:.2f} / {r['floor_one_thread_s'] * 1e3:.2f} ms"
+            for r in rows
+        )
+        + ")"
     )
     print(
         f"(target at {big['n']}: score within {TARGET_SINGLE_VS_FLOOR}x the float32 matrix-vector"
