@@ -915,6 +915,7 @@ def band_labels(
     support = [float(x) for x in peaks.positions]
     wanted = None if only is None else {float(x) for x in only}
     minor_co = _minor_co(report, top)
+    salt_ok = _carboxylate_plausible(report, peaks)
     out: list[list[str]] = []
     for p in peaks:
         if wanted is not None and p.position not in wanted:
@@ -944,7 +945,12 @@ def band_labels(
             groups=fallback,
             support=support,
         )
-        cands = [a for a in cands if _carbonyl_seen(a.id, report.phase, peaks.positions)]
+        cands = [
+            a
+            for a in cands
+            if _carbonyl_seen(a.id, report.phase, peaks.positions)
+            and (a.group != "carboxylate" or salt_ok)
+        ]
         best = cands[0].score if cands else 0.0
         out.append(minor_co(p, [f"{a.short}?" for a in cands if a.score >= 0.5 * best]))
     return out
@@ -976,6 +982,26 @@ def _minor_co(report: GroupReport, top: int) -> Callable[[Any, list[str]], list[
         return labels
 
     return add
+
+
+#: A carboxylate salt's asymmetric CO2- stretch (1540-1650 cm-1) is one of the strongest bands of
+#: its spectrum, and a salt shows no C=O stretch (from memory, any handbook correlation chart): a
+#: band is read as a carboxylate's only beside a band this strong (relative intensity, the lower
+#: bound of "s") in that window, and when the analysis found no carbonyl compound.
+CARBOXYLATE_BAND_AT_LEAST = 0.45
+
+
+def _carboxylate_plausible(report: GroupReport, peaks: PeakList) -> bool:
+    """Whether bands may be read as a carboxylate salt's (see :data:`CARBOXYLATE_BAND_AT_LEAST`):
+    an aromatic ring's 1600/1580 pair or an amide II band alone does not make a salt."""
+    if report.call("carbonyl").call == "present":
+        return False
+    rows = [r for r in bands.table() if r.id == "carboxylate_asym" and r.in_phase(report.phase)]
+    if not rows:
+        return False
+    lo, hi = rows[0].range_for(report.phase)
+    pos, inten = peaks.positions, peaks.intensities
+    return bool(((pos >= lo) & (pos <= hi) & (inten >= CARBOXYLATE_BAND_AT_LEAST)).any())
 
 
 def _is_c_o_stretch(row: bands.GroupFrequency) -> bool:

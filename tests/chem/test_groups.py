@@ -244,3 +244,30 @@ def test_a_weak_band_read_as_an_overtone_is_not_also_a_minor_c_o() -> None:
     for pos, lab in zip(pl.positions.tolist(), labels):
         if any("overtone" in t for t in lab):
             assert groups.MINOR_CO_LABEL not in lab, (pos, lab)
+
+
+def test_carboxylate_named_only_beside_its_strong_band_and_without_a_carbonyl() -> None:
+    """A carboxylate salt's asymmetric CO2- stretch (1540-1650) is one of its strongest bands,
+    the symmetric one lies at 1360-1450, and a salt has no C=O stretch (handbook values from
+    memory: sodium acetate near 1580 vs and 1415 s). An aromatic alcohol's ring bands (1600 m,
+    1575 w) and methyl bend (1370) are not read as a carboxylate's, nor an anilide's amide II
+    (1550) and its 1370 band; the salt's bands are."""
+
+    def named(pl, pos):
+        return " ".join(dict(zip(pl.positions.tolist(), groups.band_labels(pl)))[pos]).lower()
+
+    alcohol = _pl(
+        [*ALKYL, (3350, 0.4), (3030, 0.1), (1603, 0.36), (1574, 0.18), (1498, 0.34)]
+        + [(1437, 0.07), (1369, 0.28), (1108, 1.0), (1014, 0.5), (829, 0.6)],
+        broad=(3350,),
+    )
+    for pos in (1574.0, 1437.0, 1369.0):
+        assert "carboxylate" not in named(alcohol, pos), pos
+    anilide = _pl(
+        [(3295, 0.5), (3060, 0.2), (1665, 1.0), (1600, 0.7), (1550, 0.8), (1500, 0.6)]
+        + [(1440, 0.5), (1370, 0.4), (1290, 0.5), (755, 0.7), (695, 0.6)]
+    )
+    for pos in (1550.0, 1370.0):
+        assert "carboxylate" not in named(anilide, pos), pos
+    salt = _pl([*ALKYL, (1580, 1.0), (1415, 0.7), (1020, 0.1), (925, 0.1), (650, 0.3)])
+    assert any("carboxylate" in named(salt, p) for p in (1375.0, 1415.0, 1580.0))
