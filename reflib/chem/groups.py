@@ -44,6 +44,8 @@ from functools import lru_cache
 from importlib import resources
 from typing import Any
 
+import numpy as np
+
 from reflib.chem import bands
 from reflib.errors import ValidationError
 from reflib.spectrum import Peak, PeakList
@@ -894,6 +896,7 @@ def band_labels(
         own = None
     by_pos: dict[float, list[str]] = {}
     windows: list[tuple[float, float, str]] = []
+    claimed = _claimed_bands(report, peaks)
     confirm = {g.name: g.confirm_elements for g in vocabulary()}
     for c in report.groups:
         if c.call == "absent" or (own is not None and c.group not in own):
@@ -902,6 +905,8 @@ def band_labels(
             continue  # a halogen is named only when the formula (or structure) holds it
         if c.call == "possible" and _c_o_unseen(c):
             continue  # a carbonyl compound is not named from its other bands alone
+        if c.call == "possible" and _keys_taken(c, claimed, report.phase):
+            continue  # its key bands are a present group's (a nitro read into amide II)
         mark = "" if c.call == "present" else "?"
         for e in c.evidence:
             if e.need == "clean":
@@ -916,6 +921,8 @@ def band_labels(
     wanted = None if only is None else {float(x) for x in only}
     minor_co = _minor_co(report, top)
     salt_ok = _carboxylate_plausible(report, peaks)
+    # a C=O stretch is one of a carbonyl compound's strongest bands: an overtone does not show it
+    co_positions = peaks.positions[peaks.intensities >= CO_SEEN_AT_LEAST]
     out: list[list[str]] = []
     for p in peaks:
         if wanted is not None and p.position not in wanted:
@@ -935,6 +942,8 @@ def band_labels(
         if found:
             out.append(minor_co(p, found[:top]))
             continue
+        # an overtone or combination band is weak by nature (OVERTONE_MAX_STRENGTH)
+        weak_enough_for_overtone = _LEVEL[p.strength] <= _LEVEL[OVERTONE_MAX_STRENGTH]
         cands = bands.candidates(
             p.position,
             strength=p.strength,
@@ -948,8 +957,9 @@ def band_labels(
         cands = [
             a
             for a in cands
-            if _carbonyl_seen(a.id, report.phase, peaks.positions)
+            if _carbonyl_seen(a.id, report.phase, co_positions)
             and (a.group != "carboxylate" or salt_ok)
+            and (weak_enough_for_overtone or "overtone" not in a.label)
         ]
         best = cands[0].score if cands else 0.0
         out.append(minor_co(p, [f"{a.short}?" for a in cands if a.score >= 0.5 * best]))
@@ -1018,17 +1028,66 @@ def _co_windows(phase: str) -> tuple[tuple[float, float], ...]:
     )
 
 
+def _claimed_bands(report: GroupReport, peaks: PeakList) -> set[float | None]:
+    """Bands that a group called present needs: each seen band of its evidence that is the only
+    band in that rule's window strong enough for it (where the window holds another, as an
+    aromatic ring's 1480 beside a nitro's 1525, the band is not the present group's alone)."""
+    pos = peaks.positions
+    levels = np.array([_LEVEL[w] for w in peaks.strengths], dtype=int)
+    out: set[float | None] = set()
+    for c in report.groups:
+        if c.call != "present":
+            continue
+        rules_ = _rules_of(c.group, report.phase)
+        if len(rules_) != len(c.evidence):
+            continue
+        for r, e in zip(rules_, c.evidence):
+            if not e.seen or e.need == "clean":
+                continue
+            lo, hi = e.window
+            fit = (pos >= lo) & (pos <= hi) & (levels >= _LEVEL[r.min_strength])
+            if int(fit.sum()) <= 1:
+                out.add(e.cm1)
+    return out
+
+
+def _keys_taken(call: GroupCall, claimed: set[float | None], phase: str) -> bool:
+    """Whether one of a group's key bands (one set of alternatives) was seen only at bands that
+    are evidence of a group called present: a possible group is then named at none of its
+    bands, since the band it needs is another group's (a nitro's asymmetric stretch read into
+    an amide II band, an alcohol's O-H into an amide's N-H)."""
+    rules_ = _rules_of(call.group, phase)
+    if len(rules_) != len(call.evidence):
+        return False
+    key_sets: dict[str, list[Evidence]] = {}
+    for i, (r, e) in enumerate(zip(rules_, call.evidence)):
+        if r.need == "key":
+            key_sets.setdefault(r.alt or f"#{i}", []).append(e)
+    for members in key_sets.values():
+        seen = [e.cm1 for e in members if e.seen]
+        if seen and all(x in claimed for x in seen):
+            return True
+    return False
+
+
 def _c_o_unseen(call: GroupCall) -> bool:
     """Whether a group's evidence has a C=O stretch and none of its C=O stretches is seen."""
     roles = [e for e in call.evidence if "C=O" in e.role]
     return bool(roles) and not any(e.seen for e in roles)
 
 
+#: Weakest relative intensity of a band that shows a carbonyl compound's C=O stretch to
+#: :func:`_carbonyl_seen` (the lower bound of "m": a very weak overtone or combination band in
+#: the C=O region does not; a minor component's C=O of medium height does).
+CO_SEEN_AT_LEAST = 0.2
+
+
 def _carbonyl_seen(row_id: str, phase: str, positions: Any) -> bool:
     """Whether a table row other than a C=O stretch may name a band: a carbonyl compound's
     other bands (a carbonate's O-C-O, an ester's C-O, a ketone's C-C(=O)-C) only when the
     spectrum has a band where that compound's C=O stretch would be (its strongest band, the
-    one that shows the class; from memory, any handbook correlation chart)."""
+    one that shows the class; from memory, any handbook correlation chart). ``positions`` are
+    those of the bands strong enough to be one (:data:`CO_SEEN_AT_LEAST`)."""
     windows = _carbonyl_windows(phase).get(row_id)
     if windows is None:
         return True

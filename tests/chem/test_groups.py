@@ -271,3 +271,53 @@ def test_carboxylate_named_only_beside_its_strong_band_and_without_a_carbonyl() 
         assert "carboxylate" not in named(anilide, pos), pos
     salt = _pl([*ALKYL, (1580, 1.0), (1415, 0.7), (1020, 0.1), (925, 0.1), (650, 0.3)])
     assert any("carboxylate" in named(salt, p) for p in (1375.0, 1415.0, 1580.0))
+
+
+def test_possible_group_not_named_when_its_key_band_is_a_present_groups() -> None:
+    """An aryl amide (N-H near 3295, amide I near 1660, amide II near 1550; handbook values from
+    memory) with bands near 1380 and 1015: its amide II band is where a nitro's asymmetric
+    NO2 stretch would be and its N-H where an alcohol's O-H would be, so neither a nitro nor an
+    alcohol is named at its other band. Nitrobenzene (NO2 near 1525 and 1348, from memory)
+    still reads as a nitro compound."""
+    amide = _pl(
+        [(3295, 0.6), (3060, 0.2), (1660, 1.0), (1600, 0.6), (1550, 0.95), (1500, 0.35)]
+        + [(1380, 0.5), (1015, 0.7), (830, 0.9), (730, 0.4)],
+        broad=(3295,),
+    )
+    rep = groups.analyse(amide, covered=COVER)
+    assert rep.call("amide").call == "present"
+    labels = dict(zip(amide.positions.tolist(), groups.band_labels(amide, rep)))
+    assert not any("nitro" in t.lower() for v in labels.values() for t in v), labels
+    assert not any("alcohol" in t.lower() for t in labels[1015.0]), labels[1015.0]
+    nitro = _pl([(3080, 0.2), (1605, 0.4), (1525, 1.0), (1480, 0.3), (1348, 0.95), (850, 0.5)])
+    nlabels = " ".join(t for v in groups.band_labels(nitro) for t in v).lower()
+    assert "nitro" in nlabels
+
+
+def test_a_very_weak_band_in_the_c_o_region_does_not_show_a_carbonyl_compound() -> None:
+    """The anilide above with an aromatic ring's very weak combination band near 1790 (from
+    memory: 2000-1650 cm-1, far weaker than the ring stretches): its 1290 band is still named
+    as no carbonate, ester, anhydride or acid, whose C=O stretch is a strong band."""
+    pl = _pl(
+        [(3295, 0.5), (3060, 0.2), (1790, 0.04), (1665, 1.0), (1600, 0.7), (1550, 0.8)]
+        + [(1500, 0.6), (1440, 0.5), (1370, 0.4), (1290, 0.5), (755, 0.7), (695, 0.6)]
+    )
+    labels = dict(zip(pl.positions.tolist(), groups.band_labels(pl)))
+    text = " ".join(labels[1290.0]).lower()
+    for name in ("carbonate", "ester", "anhydride", "acid"):
+        assert name not in text, labels[1290.0]
+
+
+def test_weak_band_in_the_c_o_region_of_an_aromatic_alcohol_is_a_minor_c_o() -> None:
+    """An aromatic alcohol (from memory: O-H near 3350 broad, ring stretches 1600 and 1500, C-O
+    near 1100) with a weak (not very weak) band at 1680, as from a leftover aryl ketone: the
+    band is offered as a minor component's C=O, not read as the ring's overtone pattern, which
+    is very weak."""
+    pl = _pl(
+        [*ALKYL, (3350, 0.4), (3030, 0.1), (1680, 0.11), (1603, 0.36), (1498, 0.34)]
+        + [(1108, 1.0), (1014, 0.5), (829, 0.6)],
+        broad=(3350,),
+    )
+    labels = dict(zip(pl.positions.tolist(), groups.band_labels(pl)))
+    assert groups.MINOR_CO_LABEL in labels[1680.0], labels[1680.0]
+    assert not any("overtone" in t for t in labels[1680.0]), labels[1680.0]
