@@ -44,8 +44,6 @@ from functools import lru_cache
 from importlib import resources
 from typing import Any
 
-import numpy as np
-
 from reflib.chem import bands
 from reflib.errors import ValidationError
 from reflib.spectrum import Peak, PeakList
@@ -1032,8 +1030,8 @@ def _claimed_bands(report: GroupReport, peaks: PeakList) -> set[float | None]:
     """Bands that a group called present needs: each seen band of its evidence that is the only
     band in that rule's window strong enough for it (where the window holds another, as an
     aromatic ring's 1480 beside a nitro's 1525, the band is not the present group's alone)."""
-    pos = peaks.positions
-    levels = np.array([_LEVEL[w] for w in peaks.strengths], dtype=int)
+    pos = peaks.positions.tolist()  # ascending, as a PeakList keeps them
+    levels = [_LEVEL[w] for w in peaks.strengths]
     out: set[float | None] = set()
     for c in report.groups:
         if c.call != "present":
@@ -1045,8 +1043,9 @@ def _claimed_bands(report: GroupReport, peaks: PeakList) -> set[float | None]:
             if not e.seen or e.need == "clean":
                 continue
             lo, hi = e.window
-            fit = (pos >= lo) & (pos <= hi) & (levels >= _LEVEL[r.min_strength])
-            if int(fit.sum()) <= 1:
+            need = _LEVEL[r.min_strength]
+            inside = levels[bisect_left(pos, lo) : bisect_right(pos, hi)]
+            if sum(level >= need for level in inside) <= 1:
                 out.add(e.cm1)
     return out
 
