@@ -103,7 +103,7 @@ def _leftover_job(echo: Echo, lib, folder: Path, row: dict[str, str]):
     d = res.to_dict()
     share = d.get("share")
     interval = d.get("share_interval")
-    echo(f"   detected: {d['detected']}")
+    echo(f"   starting material detected: {'yes' if d['detected'] else 'no'}")
     if share is not None:
         iv = f" (interval {100 * interval[0]:.1f}-{100 * interval[1]:.1f} %)" if interval else ""
         echo(f"   starting material share of the signal: {100 * share:.1f} %{iv}")
