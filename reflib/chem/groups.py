@@ -542,9 +542,9 @@ def analyse(
         for g in vocabulary()
     ]
     by_name = {c.group: c for c in calls}
-    _shared_evidence(calls)
     _compete_for_co(calls)
     _cross_checks(by_name)
+    _shared_evidence(calls)
     query = {
         "bands": len(peaks),
         "phase": phase,
@@ -745,10 +745,11 @@ def _shared_evidence(calls: list[GroupCall]) -> None:
             _demote(c, f"the {e.cm1:.0f} band is the {taken[e.cm1]}'s ({e.role} needs it too)")
 
 
-def _oh_seen(by_name: dict[str, GroupCall]) -> float | None:
+def _oh_seen(by_name: dict[str, GroupCall], not_at: set[float | None]) -> float | None:
+    """The band an O-H group was seen with, unless it is one of ``not_at`` (an amide's N-H)."""
     for name in ("alcohol", "phenol", "carboxylic acid"):
         for e in by_name[name].evidence:
-            if e.seen and "O-H" in e.role:
+            if e.seen and "O-H" in e.role and e.cm1 not in not_at:
                 return e.cm1
     return None
 
@@ -762,7 +763,14 @@ def _demote(c: GroupCall, why: str) -> None:
 
 def _cross_checks(by_name: dict[str, GroupCall]) -> None:
     """Readings that exclude each other (from memory, common practice of reading spectra)."""
-    oh = _oh_seen(by_name)
+    amide = by_name["amide"]
+    # the bands a present amide was seen with beside its C=O: its N-H stretch and amide II
+    nh = (
+        {e.cm1 for e in amide.evidence if e.seen and e.need != "key"}
+        if amide.call == "present"
+        else set()
+    )
+    oh = _oh_seen(by_name, nh)
     co_class = [
         g.name for g in vocabulary() if g.co_class is not None and by_name[g.name].call == "present"
     ]
@@ -782,10 +790,8 @@ def _cross_checks(by_name: dict[str, GroupCall]) -> None:
         _demote(by_name["alcohol"], "the O-H band may be the phenol's")
     if by_name["aromatic"].call != "present":
         _demote(by_name["phenol"], "no aromatic ring is called present")
-    amide = by_name["amide"]
     if amide.call == "present":
         _demote(by_name["amine"], "the N-H band may be the amide's")
-        nh = {e.cm1 for e in amide.evidence if e.seen and e.need != "key"}
         for name in ("alcohol", "phenol", "nitro"):
             shared = [e for e in by_name[name].evidence if e.seen and e.cm1 in nh]
             if shared:
