@@ -8,6 +8,7 @@ file name: JCAMP-DX (labelled records starting ``##``), a typed peak list as che
 from __future__ import annotations
 
 import hashlib
+import os
 import re
 from pathlib import Path
 
@@ -22,33 +23,48 @@ _JCAMP_LABEL = re.compile(r"^\s*##[^=\n]*=", re.MULTILINE)
 Readable = Spectrum | PeakList
 
 
-def _read_text(path: str | Path) -> tuple[str, str]:
-    """Return (text, sha256 hex) of a file, with clear errors for the usual mistakes."""
+def read_bytes(path: str | Path) -> bytes:
+    """The bytes of a file, with clear errors for the usual mistakes (one open, one read)."""
     p = Path(path)
-    if not p.exists():
-        raise ReadError("no such file", path=p)
-    if p.is_dir():
-        raise ReadError("is a folder, not a file", path=p)
-    size = p.stat().st_size
-    if size > MAX_FILE_BYTES:
-        raise ReadError(
-            f"file is {size / 1e6:.0f} MB; reflib reads spectra up to {MAX_FILE_BYTES // 2**20} MB",
-            path=p,
-        )
     try:
-        data = p.read_bytes()
+        with open(p, "rb") as fh:
+            size = os.fstat(fh.fileno()).st_size
+            if size > MAX_FILE_BYTES:
+                raise ReadError(
+                    f"file is {size / 1e6:.0f} MB; reflib reads spectra up to "
+                    f"{MAX_FILE_BYTES // 2**20} MB",
+                    path=p,
+                )
+            return fh.read()
+    except FileNotFoundError:
+        raise ReadError("no such file", path=p) from None
+    except IsADirectoryError:
+        raise ReadError("is a folder, not a file", path=p) from None
     except OSError as exc:
+        if p.is_dir():
+            raise ReadError("is a folder, not a file", path=p) from None
         raise ReadError(f"cannot read: {exc.strerror or exc}", path=p) from None
+
+
+def _decode(data: bytes, path: Path) -> tuple[str, str]:
+    """(text, sha256 hex) of a file's bytes, refusing an empty or binary file."""
     if not data.strip():
-        raise ReadError("file is empty", path=p)
+        raise ReadError("file is empty", path=path)
     if b"\x00" in data[:4096]:
-        raise ReadError("binary file; reflib reads JCAMP-DX, delimited text and peak lists", path=p)
+        raise ReadError(
+            "binary file; reflib reads JCAMP-DX, delimited text and peak lists", path=path
+        )
     digest = hashlib.sha256(data).hexdigest()
     try:
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError:
         text = data.decode("latin-1")
     return text, digest
+
+
+def _read_text(path: str | Path) -> tuple[str, str]:
+    """Return (text, sha256 hex) of a file, with clear errors for the usual mistakes."""
+    return _decode(read_bytes(path), Path(path))
 
 
 #: File name endings of JCAMP-DX. The content decides the reader; these only let an error
@@ -90,15 +106,21 @@ def _stamp(objs: list[Readable], path: Path, digest: str) -> list[Readable]:
     return objs
 
 
-def read_all(path: str | Path, *, y_kind: str | None = None) -> list[Readable]:
+def read_all(
+    path: str | Path, *, y_kind: str | None = None, data: bytes | None = None
+) -> list[Readable]:
     """Every infrared spectrum or peak list in a file (several for a JCAMP-DX LINK file, or a
     characterisation line with two IR segments).
 
-    ``y_kind`` ('absorbance' or 'transmittance') overrides the detection for delimited columns.
-    Raises :class:`~reflib.errors.ReadError` naming the file (and line, where known).
+    ``y_kind`` ('absorbance' or 'transmittance') overrides the detection for delimited columns;
+    ``data`` is the file's content when it was already read (:func:`read_bytes`: an import
+    hashes and parses the same bytes). Raises :class:`~reflib.errors.ReadError` naming the
+    file (and line, where known).
     """
+    if data is None:
+        data = read_bytes(path)
     p = Path(path)
-    text, digest = _read_text(p)
+    text, digest = _decode(data, p)
     try:
         objs = parse_all(text, source=str(p), y_kind=y_kind)
     except ReadError as exc:
@@ -114,13 +136,15 @@ def read_all(path: str | Path, *, y_kind: str | None = None) -> list[Readable]:
     return _stamp(objs, p, digest)
 
 
-def read_spectrum(path: str | Path, *, y_kind: str | None = None) -> Readable:
-    """The one infrared spectrum or peak list in a file.
+def read_spectrum(
+    path: str | Path, *, y_kind: str | None = None, data: bytes | None = None
+) -> Readable:
+    """The one infrared spectrum or peak list in a file (``data``: its bytes, if already read).
 
     A file holding several infrared blocks is refused (use :func:`read_all`): reflib does not
     guess which one was meant. Example: ``read_spectrum("crude-42.jdx").range_cm1``.
     """
-    objs = read_all(path, y_kind=y_kind)
+    objs = read_all(path, y_kind=y_kind, data=data)
     if len(objs) != 1:
         titles = "; ".join(
             o.meta.title or o.meta.extra.get("ir_segment") or "(untitled)" for o in objs
@@ -133,4 +157,11 @@ def read_spectrum(path: str | Path, *, y_kind: str | None = None) -> Readable:
     return objs[0]
 
 
-__all__ = ["read_spectrum", "read_all", "parse_all", "sniff_format", "MAX_FILE_BYTES"]
+__all__ = [
+    "read_spectrum",
+    "read_all",
+    "read_bytes",
+    "parse_all",
+    "sniff_format",
+    "MAX_FILE_BYTES",
+]

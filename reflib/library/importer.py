@@ -109,13 +109,6 @@ def read_manifest(
     return entries
 
 
-def _sha256(path: Path) -> str | None:
-    try:
-        return hashlib.sha256(path.read_bytes()).hexdigest()
-    except OSError:
-        return None
-
-
 #: Fewer files than this are read in this process (starting workers would not pay).
 READ_AHEAD = 32
 #: Files written per transaction: a killed import loses at most the chunk in flight.
@@ -142,14 +135,18 @@ def prepare_file(task: tuple[int, ImportEntry]):
     path, line))``: exceptions cross the process boundary as that tuple, as pickling would drop
     the keyword-only path and line.
     """
-    from reflib.io import read_spectrum
+    from reflib.io import read_bytes, read_spectrum
     from reflib.library.bulk import _prepare, lighten
 
     pos, e = task
-    if not _STATE["force"] and _sha256(e.file) in _STATE["known"]:
+    try:
+        content = read_bytes(e.file)
+    except ReflibError as exc:
+        return "error", (type(exc), exc.message, exc.path, exc.line)
+    if not _STATE["force"] and hashlib.sha256(content).hexdigest() in _STATE["known"]:
         return "skipped", None
     try:
-        data = read_spectrum(e.file)
+        data = read_spectrum(e.file, data=content)
         item = {
             "data": data,
             "name": e.name or data.meta.title or e.file.stem,
