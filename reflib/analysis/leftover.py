@@ -679,6 +679,10 @@ PRODUCT_TAIL_REACH = 5.0
 #: Start only: each neighbouring band of the sample is fitted as a Gaussian and a Lorentzian of
 #: its width (a pseudo-Voigt), not as a Gaussian alone.
 NEIGHBOUR_LORENTZ = True
+#: Start only: a maximum of the sample is a neighbouring band when the trace between it and the
+#: starting-material band dips below it by at least this many noise units (a band standing out
+#: of the noise; common practice, no source).
+NEIGHBOUR_PROMINENCE = 5.0
 #: Start only: also count as the product's likely bands the sample's bands the starting material
 #: cannot be (:func:`_foreign_bands`): at least this strong relative to the sample's strongest...
 FOREIGN_BANDS = True
@@ -795,11 +799,18 @@ def _neighbour_columns(
     reach = grid[win.sl][-1] - win.position + 2.0 * win.fwhm
     cols = []
     step = GRID_STEP_CM1
+    centre = int(np.clip(np.searchsorted(grid, win.position), 0, y.size - 1))
     for i in range(2, y.size - 2):
         d = grid[i] - win.position
         if abs(d) <= half or abs(d) > reach or y[i] < 5.0 * noise:
             continue
         if not (y[i] >= y[i - 1] and y[i] >= y[i + 1] and y[i] > y[i - 2] and y[i] > y[i + 2]):
+            continue
+        # a band of its own: the trace dips between it and the starting-material band by more
+        # than noise (a noise ripple on the band's own flank is no neighbour; fitted as one, it
+        # would copy the band's shape and take its amount)
+        between = y[min(i, centre) : max(i, centre) + 1]
+        if y[i] - float(between.min()) < NEIGHBOUR_PROMINENCE * noise:
             continue
         # half width on the side away from the starting-material band
         k, direction = i, (1 if d > 0 else -1)
@@ -807,11 +818,14 @@ def _neighbour_columns(
             k += direction
         fwhm = float(np.clip(2.0 * abs(k - i) * step, 8.0, 120.0))
         sig = fwhm / 2.3548
-        cols.append(np.exp(-0.5 * ((grid - grid[i]) / sig) ** 2))
+        shapes = [np.exp(-0.5 * ((grid - grid[i]) / sig) ** 2)]
         if NEIGHBOUR_LORENTZ:
             # condensed-phase bands lie between Gaussian and Lorentzian: a Lorentzian column
             # of the same width lets the fit take a neighbour's long tail
-            cols.append(1.0 / (1.0 + 4.0 * ((grid - grid[i]) / fwhm) ** 2))
+            shapes.append(1.0 / (1.0 + 4.0 * ((grid - grid[i]) / fwhm) ** 2))
+        # a shape that puts less than the noise into the window tells the fit nothing (and
+        # makes its covariance singular)
+        cols += [c for c in shapes if y[i] * float(c[win.sl].max()) >= noise]
     return cols
 
 
