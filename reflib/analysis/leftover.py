@@ -433,6 +433,7 @@ def leftover(
         return _start_only(
             info_s, y, S, grid, usable, noise, ub_share, sample_top, a_y, notes,
             start=start, a_s=a_s, corr_pts=corr_pts, others=extra_refs,
+            broad_ok=_broad_comparable(sp.prep, st.prep),
             product_bands=sorted(
                 set(_product_group_bands(sample, start, sp.prep))
                 | set(_foreign_bands(y, grid, S, usable, noise) if FOREIGN_BANDS else [])
@@ -557,13 +558,14 @@ def _broadened_fit_data(
 
 
 def combine_bands(
-    amounts: np.ndarray, sigmas: np.ndarray, spread: float | None = None
+    amounts: np.ndarray, sigmas: np.ndarray, spread: float | np.ndarray | None = None
 ) -> tuple[float, float, float]:
     """Combine the local amounts of several bands: (mean, its noise error, its total error).
 
     Each band's variance is its fit variance plus ``(spread * mean)**2``: a band's height
     changes between days by about :data:`BAND_HEIGHT_SPREAD` (relative), so one very clean band
-    must not outweigh the others. The noise error (fit variances only) is what the detection
+    must not outweigh the others (``spread`` is one value, or one per band: see
+    :data:`BROAD_HEIGHT_SPREAD`). The noise error (fit variances only) is what the detection
     test uses; the total error adds the scatter between bands and sets the interval.
     """
     spread = BAND_HEIGHT_SPREAD if spread is None else spread
@@ -658,9 +660,12 @@ SHAPE_LIMIT = 2.5
 #: measurement may be a few cm-1 off (global) and each band a couple more (its own), so two
 #: measurements differ by up to about twice that (common practice, no source).
 START_MAX_SHIFT_CM1 = 12.0
-#: Start only: bands broader than this (cm-1 FWHM; hydrogen-bonded O-H and N-H envelopes) are
-#: judged by their ceiling only: a straight local baseline cannot be told from their flanks.
+#: Start only: bands broader than this (cm-1 FWHM) are hydrogen-bonded O-H and N-H envelopes.
 BROAD_FWHM_CM1 = 60.0
+#: Start only: relative change of a hydrogen-bonded envelope's height between two measurements
+#: (log standard deviation). Hydrogen bonding, and so the envelope, changes with the sample's
+#: state, water content and temperature far more than a skeleton band does (from memory).
+BROAD_HEIGHT_SPREAD = 0.5
 #: Start only: significance a single band needs to count as seen (fitted amount over its error).
 START_SEEN_Z = 3.0
 #: Start only: significance of the combined amount of the consistent bands needed to call the
@@ -679,6 +684,10 @@ PRODUCT_TAIL_REACH = 5.0
 #: Start only: each neighbouring band of the sample is fitted as a Gaussian and a Lorentzian of
 #: its width (a pseudo-Voigt), not as a Gaussian alone.
 NEIGHBOUR_LORENTZ = True
+#: Start only: a maximum of the sample is a neighbouring band when the trace between it and the
+#: starting-material band dips below it by at least this many noise units (a band standing out
+#: of the noise; common practice, no source).
+NEIGHBOUR_PROMINENCE = 5.0
 #: Start only: also count as the product's likely bands the sample's bands the starting material
 #: cannot be (:func:`_foreign_bands`): at least this strong relative to the sample's strongest...
 FOREIGN_BANDS = True
@@ -698,8 +707,9 @@ class _StartBand:
     misfit: float
     shift: float  # cm-1
     ceiling: float  # largest amount the sample leaves room for at the band's core
-    broad: bool  # too broad to judge by shape (a hydrogen-bonded envelope): ceiling only
+    broad: bool  # a hydrogen-bonded envelope (see BROAD_FWHM_CM1)
     flank: float = 0.0  # amount a nearby product band's tail may put there (see PRODUCT_TAIL)
+    judged: bool = True  # its amount may set and join the consistent group
 
 
 def _start_band_fit(
@@ -795,11 +805,18 @@ def _neighbour_columns(
     reach = grid[win.sl][-1] - win.position + 2.0 * win.fwhm
     cols = []
     step = GRID_STEP_CM1
+    centre = int(np.clip(np.searchsorted(grid, win.position), 0, y.size - 1))
     for i in range(2, y.size - 2):
         d = grid[i] - win.position
         if abs(d) <= half or abs(d) > reach or y[i] < 5.0 * noise:
             continue
         if not (y[i] >= y[i - 1] and y[i] >= y[i + 1] and y[i] > y[i - 2] and y[i] > y[i + 2]):
+            continue
+        # a band of its own: the trace dips between it and the starting-material band by more
+        # than noise (a noise ripple on the band's own flank is no neighbour; fitted as one, it
+        # would copy the band's shape and take its amount)
+        between = y[min(i, centre) : max(i, centre) + 1]
+        if y[i] - float(between.min()) < NEIGHBOUR_PROMINENCE * noise:
             continue
         # half width on the side away from the starting-material band
         k, direction = i, (1 if d > 0 else -1)
@@ -807,11 +824,14 @@ def _neighbour_columns(
             k += direction
         fwhm = float(np.clip(2.0 * abs(k - i) * step, 8.0, 120.0))
         sig = fwhm / 2.3548
-        cols.append(np.exp(-0.5 * ((grid - grid[i]) / sig) ** 2))
+        shapes = [np.exp(-0.5 * ((grid - grid[i]) / sig) ** 2)]
         if NEIGHBOUR_LORENTZ:
             # condensed-phase bands lie between Gaussian and Lorentzian: a Lorentzian column
             # of the same width lets the fit take a neighbour's long tail
-            cols.append(1.0 / (1.0 + 4.0 * ((grid - grid[i]) / fwhm) ** 2))
+            shapes.append(1.0 / (1.0 + 4.0 * ((grid - grid[i]) / fwhm) ** 2))
+        # a shape that puts less than the noise into the window tells the fit nothing (and
+        # makes its covariance singular)
+        cols += [c for c in shapes if y[i] * float(c[win.sl].max()) >= noise]
     return cols
 
 
@@ -849,8 +869,12 @@ def start_only_bands(
     corr_pts: float,
     others: list[np.ndarray] = (),  # type: ignore[assignment]
     product_bands: list[float] = (),  # type: ignore[assignment]
+    broad_ok: bool = True,
 ) -> list[_StartBand]:
     """Every strong starting-material band judged in the sample (see :func:`_start_band_fit`).
+
+    ``broad_ok``: whether hydrogen-bonded envelopes may set the amount (see
+    :func:`_broad_comparable`); when False they only bound it.
 
     ``product_bands`` are the sample's bands of groups the crude shows and the starting material
     does not (:func:`_product_group_bands`) and the sample's bands the starting material cannot
@@ -874,7 +898,10 @@ def start_only_bands(
         sg = float(np.hypot(sg, flank))
         shown = a >= START_SEEN_Z * sg and a * peak >= START_SEEN_Z * noise
         shape_ok = misfit <= SHAPE_LIMIT or not shown
-        out.append(_StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad, flank))
+        judged = broad_ok or not broad
+        out.append(
+            _StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad, flank, judged)
+        )
     return out
 
 
@@ -969,14 +996,39 @@ def consistent_low_group(bands: list[_StartBand]) -> np.ndarray:
     """
     a = np.array([b.amount for b in bands])
     s = np.array([b.sigma for b in bands])
-    spread = float(np.exp(2 * BAND_HEIGHT_SPREAD))
-    judged = np.array([not b.broad and b.shape_ok for b in bands])
+    judged = np.array([_judgeable(b) for b in bands])
     if not judged.any():
         return judged
-    lowest = float(np.min(np.maximum(a, 0.0)[judged] + 2.0 * s[judged]))
-    ceilings = np.array([_ceiling(b) for b in bands])
-    upper = min(lowest, float(np.min(ceilings[judged]))) * spread
+    # each band's upper limit (its amount plus two errors, or its ceiling), widened by two of
+    # its own day-to-day spreads
+    limits = np.minimum(np.maximum(a, 0.0) + 2.0 * s, [_ceiling(b) for b in bands])
+    upper = float(np.min((limits * np.exp(2.0 * _spreads(bands)))[judged]))
     return judged & ((a - 2.0 * s) <= upper)
+
+
+def _judgeable(b: _StartBand) -> bool:
+    """A band whose amount may set the level: comparable between the two measurements (see
+    :func:`_broad_comparable`) and of the starting material's shape where the sample shows it."""
+    return b.judged and b.shape_ok
+
+
+def _spreads(bands: list[_StartBand]) -> np.ndarray:
+    """Each band's day-to-day height spread (log sd): :data:`BROAD_HEIGHT_SPREAD` for a
+    hydrogen-bonded envelope, :data:`BAND_HEIGHT_SPREAD` for any other band."""
+    return np.array([BROAD_HEIGHT_SPREAD if b.broad else BAND_HEIGHT_SPREAD for b in bands])
+
+
+def _broad_comparable(sample_prep: Iterable[str], start_prep: Iterable[str]) -> bool:
+    """Whether hydrogen-bonded envelopes of the two measurements can be compared: both in
+    solution, both in the gas, or both condensed (neat, film, mull, pellet, ATR). In dilute
+    solution and in the gas much of the bonded O-H and N-H gives way to sharp free bands near
+    3600 and 3400 cm-1 (any spectroscopy text), so the envelope's height says nothing there."""
+
+    def phase(tokens: Iterable[str]) -> str:
+        kinds = {prep_mod.PREPARATIONS[t].kind for t in tokens if t in prep_mod.PREPARATIONS}
+        return "gas" if "gas" in kinds else "solution" if "solution" in kinds else "condensed"
+
+    return phase(sample_prep) == phase(start_prep)
 
 
 def _start_only(
@@ -996,6 +1048,7 @@ def _start_only(
     corr_pts: float,
     others: list[np.ndarray] = (),  # type: ignore[assignment]
     product_bands: list[float] = (),  # type: ignore[assignment]
+    broad_ok: bool = True,
 ) -> LeftoverResult:
     """Start only: every strong starting-material band fitted in the sample (shifted starting
     material, interfering reagents/solvents, straight baseline); a band the sample shows must
@@ -1004,7 +1057,7 @@ def _start_only(
     sample's noise and the day-to-day spread of band heights (:func:`combine_bands`)."""
     notes.append("the pure product is not given: the share rests on the starting material's bands")
     sb = start_only_bands(
-        y, grid, S, start, usable, noise, corr_pts, list(others), list(product_bands)
+        y, grid, S, start, usable, noise, corr_pts, list(others), list(product_bands), broad_ok
     )
     if not sb or ub_share is None or a_y <= 0:
         notes.append("no strong starting-material band lies in an unmasked region")
@@ -1013,22 +1066,26 @@ def _start_only(
     am = np.array([b.amount for b in sb])
     sg = np.array([b.sigma if np.isfinite(b.sigma) else 1e6 for b in sb])
     ceil = np.array([_ceiling(b) for b in sb])
-    judgeable = [b for b in sb if not b.broad and b.shape_ok]
+    judgeable = [b for b in sb if _judgeable(b)]
+    grow = np.exp(2.0 * _spreads(sb))  # two day-to-day spreads of each band's height
     if not judgeable:
         # issue 16, item 3: nothing can be seen for certain; say so and bound the share only
         notes.append(
             "no band of the starting material is clear of the sample's other bands (each is "
-            "broad or has another band of another shape on it): only an upper bound is given"
+            "a hydrogen-bonded envelope measured in another phase, or has another band of "
+            "another shape on it): only an upper bound is given"
         )
         fin = np.array([b.ceiling for b in sb])
-        ub = float(min(1.0, float(np.min(fin)) * np.exp(2 * BAND_HEIGHT_SPREAD) * a_s / a_y))
+        ub = float(min(1.0, float(np.min(fin * grow)) * a_s / a_y))
         bands = [DiagnosticBand(b.position, False, 0.0, 0.0, b.amount, b.sigma) for b in sb]
         return LeftoverResult(info_s, None, False, None, None, ub, 1.0, bands, notes)
     if not group.any():
         # no judged band fits under the lowest ceiling: the amount is what that band allows
         group = np.zeros(len(sb), bool)
         group[int(np.argmin(ceil))] = True
-    b_mean, b_noise, b_err = combine_bands(np.clip(am[group], 0.0, ceil[group]), sg[group])
+    b_mean, b_noise, b_err = combine_bands(
+        np.clip(am[group], 0.0, ceil[group]), sg[group], _spreads(sb)[group]
+    )
     z = b_mean / b_noise if b_noise > 0 else 0.0
     seen = [
         b.amount >= START_SEEN_Z * b.sigma and b.amount * b.peak >= START_SEEN_Z * noise for b in sb
@@ -1058,11 +1115,10 @@ def _start_only(
             f"the sample's band near {sb[i].position:.0f} cm-1 has another width or shape than "
             "the starting material's: it is not the starting material's"
         )
-    spread = float(np.exp(2 * BAND_HEIGHT_SPREAD))
     if not np.isfinite(ceil).any():
         ceil = np.array([b.ceiling for b in sb])
-    ub = float(min(1.0, float(np.min(ceil)) * spread * to_share))
-    lim_k = int(np.argmin(ceil))
+    ub = float(min(1.0, float(np.min(ceil * grow)) * to_share))
+    lim_k = int(np.argmin(ceil * grow))
     limiting = sb[lim_k].position
     if detected:
         lo = max(b_mean - 1.96 * b_err, 0.0) * to_share

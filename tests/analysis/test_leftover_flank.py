@@ -58,3 +58,19 @@ def test_neighbour_columns_hold_a_lorentzian_of_the_same_width():
     assert np.sum(lor >= 0.5) == np.sum(gau >= 0.5)
     far = np.searchsorted(grid, 1780.0)  # three widths away
     assert lor[far] > 10 * gau[far]
+
+
+def test_neighbours_are_bands_that_stand_out_of_the_noise():
+    """A maximum only a few noise units above the trace between it and the starting-material
+    band is a ripple, not a band of its own (a peak must stand out of the noise; common
+    practice, no source). Fitted as a neighbour it would copy the band's own shape."""
+    grid = np.arange(1000.0, 2000.0, 2.0)
+    g = lambda c, w: np.exp(-0.5 * ((grid - c) / (w / 2.3548)) ** 2)  # noqa: E731
+    noise = 1e-3
+    shelf = np.where(grid > 1715.0, 0.2, 0.0)
+    win = lo._window(grid, 1700.0, 20.0, np.ones(grid.size, bool))
+    ripple = g(1700.0, 20.0) + shelf + 3 * noise * g(1744.0, 6.0)
+    assert lo._neighbour_columns(ripple, grid, win, noise) == []
+    band = g(1700.0, 20.0) + shelf + 50 * noise * g(1744.0, 6.0)
+    cols = lo._neighbour_columns(band, grid, win, noise)
+    assert len(cols) == 2 and all(grid[int(np.argmax(c))] == 1744.0 for c in cols)
