@@ -273,11 +273,14 @@ def variants(idx, enc, qvecs, repeat: int) -> list[dict]:
 
     prep = ["film"]
     rng_ = (None, None)
-    ref = search_mod.score_index(qvecs[0], idx, enc, prep, rng_)
     original_rows = search_mod.BLOCK_ROWS
 
     def cur(q, r, w, out, g):
         search_mod.score_block(q, r, w, out=out)
+
+    # the reference scores come from the same loop as the variants' (score_index_with, which
+    # leaves out score_index's ATR correction): like is compared with like
+    ref = score_index_with(cur, qvecs[0], idx, enc, prep, rng_)
 
     cache = NormCache()
     f32 = {}
@@ -410,8 +413,8 @@ def measure(lib_path: str, n_single: int, n_batch: int, with_variants: bool) -> 
         n_single,
     )
     res.update(timed)
-    # the floor is the faster of the two: BLAS's own threads, or one (a single query is scored
-    # with one, reflib.analysis.search.SINGLE_QUERY_BLAS_THREADS)
+    # the floor is the faster of the two: BLAS's own threads, or one (on a busy machine one
+    # thread can be the faster; see docs/speed.md)
     res["floor_single_s"] = min(res["floor_default_s"], res["floor_one_thread_s"])
     q32 = qmat.astype(np.float32)
     t = time.perf_counter()

@@ -336,36 +336,6 @@ def _group_norms(index, g, w: np.ndarray) -> np.ndarray:
     return rn
 
 
-def _single_query_threads():
-    """The BLAS thread limit of a single-query search: only in the main thread. BLAS's thread
-    count is one setting for the whole process, and OpenBLAS does not always take it back when
-    threads set and restore it side by side (seen with four threads: the count stayed at 1), so
-    searches in other threads (a server's) leave it as it is."""
-    import contextlib
-    import threading
-
-    if threading.current_thread() is not threading.main_thread():
-        return contextlib.nullcontext()
-    return _blas_controller().limit(limits=SINGLE_QUERY_BLAS_THREADS, user_api="blas")
-
-
-@lru_cache(maxsize=1)
-def _blas_controller():
-    """The process's BLAS thread pools (made once: making one looks up every loaded library)."""
-    from threadpoolctl import ThreadpoolController
-
-    return ThreadpoolController()
-
-
-#: One query is scored with this many BLAS threads (in the main thread). A matrix-vector
-#: product is bound by memory bandwidth, so a second thread buys little even on an idle
-#: machine, while on a shared one (other jobs on the cores) the threads wait on each other: at
-#: 20 000 references on 2 busy cores one product took 8.0 ms with OpenBLAS's 2 threads against
-#: 2.9 ms with one, and the five per-preparation blocks of a search 10.0 ms against 3.0
-#: (docs/speed.md). Batches (matrix-matrix products) keep the default.
-SINGLE_QUERY_BLAS_THREADS = 1
-
-
 def score_index(
     q: np.ndarray,
     index,
@@ -390,13 +360,6 @@ def score_index(
     ``query_range`` and ``profile``. Returns (n, m) float32 scores.
     """
     q = np.atleast_2d(np.asarray(q, dtype=np.float64))
-    if q.shape[0] == 1 and index.size:
-        with _single_query_threads():
-            return _score_groups(q, index, enc, query_prep, query_range, profile, holes)
-    return _score_groups(q, index, enc, query_prep, query_range, profile, holes)
-
-
-def _score_groups(q, index, enc, query_prep, query_range, profile, holes) -> np.ndarray:
     scores = np.zeros((index.size, q.shape[0]), dtype=np.float32)
     factor = None
     for g in index.groups:
