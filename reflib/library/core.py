@@ -21,7 +21,16 @@ from typing import Any
 
 import numpy as np
 
-from reflib.analysis.calibration import MIN_COMPOUNDS, candidates_alike, mask_share
+from reflib.analysis.calibration import (
+    MIN_COMPOUNDS,
+    NEIGHBOURS_SEEN,
+    band_offsets,
+    candidates_alike,
+    crowding_seen,
+    in_one_frame,
+    mask_share,
+    top_distinct,
+)
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.phase import gas_against_condensed, strict_verdict
 from reflib.analysis.search import (
@@ -491,6 +500,10 @@ class Library:
             if len(picks) > 1
             else 0.0
         )
+        features["crowd_seen"] = self._crowding_seen(
+            q, tokens, scores, idx, group_of, explanations[0][2]
+        )
+        features.update(band_offsets(peaks, explanations[0][1], ex1.matched))
         verdict, reason, confidence = self._verdict(features, idx.size)
         if gas_against_condensed(tokens, hits[0].prep):
             verdict, reason = strict_verdict(verdict, reason, features)
@@ -533,6 +546,21 @@ class Library:
 
     def forget_calibration(self) -> None:
         self._cal_text = 0
+
+    def _crowding_seen(self, q, tokens, scores, idx, group_of, w) -> float:
+        """The top hit's crowding where the query is seen
+        (:func:`reflib.analysis.calibration.crowding_seen`, over the query's own runners-up)."""
+        ok = np.isfinite(scores)
+        rows = None if ok.all() else np.flatnonzero(ok)
+        col = scores if rows is None else scores[rows]
+        cids = idx.compound_ids if rows is None else idx.compound_ids[rows]
+        near = top_distinct(col, cids, 1 + NEIGHBOURS_SEEN)
+        if rows is not None:
+            near = rows[near]
+        _, vs = in_one_frame(
+            self.encoding, q, tokens, idx.matrix[near], [group_of(int(r)).prep for r in near]
+        )
+        return crowding_seen(vs, w)
 
     def _crowding(self, spectrum_id: int) -> float:
         row = self.store.conn.execute(
