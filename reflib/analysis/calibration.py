@@ -757,7 +757,14 @@ def crowding_seen(vs: np.ndarray, w: np.ndarray) -> float:
     V = np.array(vs, dtype=np.float64, ndmin=2)
     if V.shape[0] < 2:
         return 0.0
-    return float(max(pair_score(V[0], v, w) for v in V[1:]))
+    w = np.asarray(w, dtype=np.float64)
+    x = V[0] * w
+    nx = math.sqrt(float(x @ V[0]))
+    no = np.sqrt(np.maximum((V[1:] * V[1:]) @ w, 0.0))
+    if nx <= 0.0 or not (no > 0).any():
+        return 0.0
+    cos = (V[1:] @ x)[no > 0] / (nx * no[no > 0])
+    return float(np.clip(cos.max(), 0.0, 1.0))
 
 
 def in_one_frame(enc, q, q_prep, vs, preps) -> tuple[np.ndarray, np.ndarray]:
@@ -819,5 +826,8 @@ FINGERPRINT_BELOW = 1500.0
 def _robust_sd(d: np.ndarray) -> float:
     """1.4826 times the median absolute deviation from the median (the sd of a normal
     sample, robust to a few mismatched pairs)."""
-    d = np.asarray(d, float)
-    return float(1.4826 * np.median(np.abs(d - np.median(d))))
+    import statistics
+
+    v = [float(x) for x in d]  # a few dozen values: plain floats beat numpy's median here
+    m = statistics.median(v)
+    return 1.4826 * statistics.median([abs(x - m) for x in v])

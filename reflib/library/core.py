@@ -29,7 +29,6 @@ from reflib.analysis.calibration import (
     crowding_seen,
     in_one_frame,
     mask_share,
-    top_distinct,
 )
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.phase import gas_against_condensed, strict_verdict
@@ -420,7 +419,7 @@ class Library:
             reason = "the library is empty" if idx.size == 0 else "no bands in the query"
             return SearchResult(None, tokens, (lo, hi), "no-match", reason, [], masked)
         # best spectrum per compound: look at enough rows to find top+1 distinct compounds
-        want = max(top, 2)
+        want = max(top, 2, 1 + NEIGHBOURS_SEEN)  # the runners-up of crowd_seen too
         k = min(idx.size, max(4 * want, 32))
         while True:
             cand = np.argpartition(-scores, k - 1)[:k] if k < idx.size else np.arange(idx.size)
@@ -500,9 +499,11 @@ class Library:
             if len(picks) > 1
             else 0.0
         )
-        features["crowd_seen"] = self._crowding_seen(
-            q, tokens, scores, idx, group_of, explanations[0][2]
+        seen_rows = picks[: 1 + NEIGHBOURS_SEEN]
+        _, near = in_one_frame(
+            enc, q, tokens, idx.matrix[seen_rows], [group_of(i).prep for i in seen_rows]
         )
+        features["crowd_seen"] = crowding_seen(near, explanations[0][2])
         features.update(band_offsets(peaks, explanations[0][1], ex1.matched))
         verdict, reason, confidence = self._verdict(features, idx.size)
         if gas_against_condensed(tokens, hits[0].prep):
@@ -546,21 +547,6 @@ class Library:
 
     def forget_calibration(self) -> None:
         self._cal_text = 0
-
-    def _crowding_seen(self, q, tokens, scores, idx, group_of, w) -> float:
-        """The top hit's crowding where the query is seen
-        (:func:`reflib.analysis.calibration.crowding_seen`, over the query's own runners-up)."""
-        ok = np.isfinite(scores)
-        rows = None if ok.all() else np.flatnonzero(ok)
-        col = scores if rows is None else scores[rows]
-        cids = idx.compound_ids if rows is None else idx.compound_ids[rows]
-        near = top_distinct(col, cids, 1 + NEIGHBOURS_SEEN)
-        if rows is not None:
-            near = rows[near]
-        _, vs = in_one_frame(
-            self.encoding, q, tokens, idx.matrix[near], [group_of(int(r)).prep for r in near]
-        )
-        return crowding_seen(vs, w)
 
     def _crowding(self, spectrum_id: int) -> float:
         row = self.store.conn.execute(
