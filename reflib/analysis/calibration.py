@@ -26,7 +26,7 @@ from reflib.chem import prep as prep_mod
 from reflib.spectrum import PeakList
 
 #: Version of the stored model layout; a library with another version falls back to the rule.
-MODEL_VERSION = 2
+MODEL_VERSION = 3
 
 #: Search features the model reads (names as in :attr:`SearchResult.features`).
 FEATURES = (
@@ -39,7 +39,14 @@ FEATURES = (
     "n_query_bands",
     "crowding",
     "pair",
+    "crowd_seen",
+    "offset_sd",
+    "offset_sd_fp",
+    "height_sd",
 )
+
+#: Features that a search may lack (fewer than four matched bands): a stored median stands in.
+MAY_LACK = ("crowding", "offset_sd", "offset_sd_fp", "height_sd")
 
 #: A library needs this many compounds before it can be calibrated: with fewer, a left-out
 #: compound has too few analogs to stand for a real unknown (a judgement, common practice of
@@ -255,12 +262,14 @@ def design(f: np.ndarray) -> np.ndarray:
     """Model inputs from raw features (columns in :data:`FEATURES` order).
 
     The raw features, the log of the band counts, how far the top score stands above the top
-    hit's own nearest neighbour (a top hit in a crowded family needs more), and how far the
-    runner-up's score stands above the likeness of the two candidates themselves (a query
-    between two analogs, nearer to each than they are to each other, is probably neither).
+    hit's own nearest neighbour (a top hit in a crowded family needs more), also where the
+    query is seen, and how far the runner-up's score stands above the likeness of the two
+    candidates themselves (a query between two analogs, nearer to each than they are to each
+    other, is probably neither); the band offsets' and heights' spreads as they are.
     """
     f = np.atleast_2d(np.asarray(f, dtype=float))
-    score, margin, new, missing, strength, share, nbands, crowd, pair = f.T
+    score, margin, new, missing, strength, share, nbands, crowd, pair = f.T[:9]
+    crowd_seen, off, off_fp, height = f.T[9:13]
     second = score - margin
     return np.column_stack(
         [
@@ -277,6 +286,11 @@ def design(f: np.ndarray) -> np.ndarray:
             pair,
             second - pair,
             score - pair,
+            crowd_seen,
+            score - crowd_seen,
+            off,
+            off_fp,
+            height,
         ]
     )
 
@@ -329,7 +343,7 @@ class CalibratedModel:
     present: Logistic
     confident_at: float  # on the raw probability of ``correct``
     no_match_below: float  # on ``present``
-    default_crowding: float
+    defaults: dict[str, float]  # medians of :data:`MAY_LACK` in the calibration queries
     encoding_key: str
     n_compounds: int
     n_spectra: int
@@ -356,9 +370,11 @@ class CalibratedModel:
 
     def row(self, features: dict[str, float]) -> np.ndarray:
         f = dict(features)
-        if not math.isfinite(float(f.get("crowding", float("nan")))):
-            f["crowding"] = self.default_crowding
+        for k in MAY_LACK:
+            if not math.isfinite(float(f.get(k, float("nan")))):
+                f[k] = self.defaults[k]
         f.setdefault("pair", 0.0)  # a search with a single candidate
+        f.setdefault("crowd_seen", 0.0)
         return np.array([[float(f[k]) for k in FEATURES]])
 
     def decide(self, features: dict[str, float]) -> tuple[str, str, float]:
@@ -579,14 +595,23 @@ def fit(
     """Fit both models on the features ``X`` (rows in :data:`FEATURES` order) of calibration
     queries and choose the thresholds.
 
-    ``correct``: the top hit was the query's compound; ``present``: the compound was in the
-    library; ``groups``: the query's compound (folds never split a compound). The stored
-    regressions are fitted on all rows; their isotonic maps, the thresholds and everything
-    measured come from cross-fitted predictions (:data:`FOLDS` folds of compounds, each row
-    predicted by a regression that did not see its compound). Returns the pieces of a
+    Missing values (NaN) of :data:`MAY_LACK` are replaced by their medians, which the model
+    keeps for searches that lack them. ``correct``: the top hit was the query's compound;
+    ``present``: the compound was in the library; ``groups``: the query's compound (folds
+    never split a compound). The stored regressions are fitted on all rows; their isotonic
+    maps, the thresholds and everything measured come from cross-fitted predictions
+    (:data:`FOLDS` folds of compounds, each row predicted by a regression that did not see
+    its compound). Returns the pieces of a
     :class:`CalibratedModel` and what was measured.
     """
-    X = np.asarray(X, float)
+    X = np.array(X, dtype=float)
+    defaults = {}
+    for k in MAY_LACK:
+        j = FEATURES.index(k)
+        col = X[:, j]
+        ok = np.isfinite(col)
+        defaults[k] = float(np.median(col[ok])) if ok.any() else 0.0
+        X[~ok, j] = defaults[k]
     correct = np.asarray(correct, bool)
     present = np.asarray(present, bool)
     groups = np.asarray(groups)
@@ -639,7 +664,7 @@ def fit(
         "present": m_present,
         "confident_at": float(confident_at),
         "no_match_below": no_match_below,
-        "default_crowding": float(np.median(X[:, FEATURES.index("crowding")])),
+        "defaults": defaults,
     }
     return model, measured
 
@@ -686,3 +711,123 @@ def _compare(X, y, w, folds, conf_stored) -> dict[str, float]:
         out[f"{name}_brier"] = brier(p)
         out[f"{name}_right_at_1pct"] = reach(p)
     return out
+
+
+# --- the query among its top candidates -------------------------------------------------------
+
+#: Runners-up (distinct compounds after the top hit) the top hit is compared with under the
+#: query's weights (:func:`crowding_seen`): the query's own top candidates are the top hit's
+#: near neighbours where the query is seen, without a pass over the library.
+NEIGHBOURS_SEEN = 6
+
+
+def top_distinct(scores: np.ndarray, compound_ids: np.ndarray, k: int) -> np.ndarray:
+    """Rows of the best-scoring reference of each of the ``k`` best compounds in one score
+    column (fewer when the library has fewer compounds), best first."""
+    s = np.asarray(scores)
+    n = s.size
+    m = min(n, max(8 * k, 32))
+    while True:
+        cand = np.argpartition(-s, m - 1)[:m] if m < n else np.arange(n)
+        cand = cand[np.argsort(-s[cand], kind="stable")]
+        out: list[int] = []
+        seen: set[int] = set()
+        for i in cand.tolist():
+            c = int(compound_ids[i])
+            if c not in seen:
+                seen.add(c)
+                out.append(i)
+                if len(out) >= k:
+                    return np.array(out, dtype=np.int64)
+        if m >= n:
+            return np.array(out, dtype=np.int64)
+        m = min(n, 4 * m)
+
+
+def crowding_seen(vs: np.ndarray, w: np.ndarray) -> float:
+    """How crowded the top hit is where the query is seen: the highest weighted cosine, under
+    the weights ``w`` of the query's comparison with the top hit, between the top hit's vector
+    (first row of ``vs``) and a runner-up's (the other rows; vectors in one intensity frame,
+    :func:`in_one_frame`). 0 without a runner-up.
+
+    The library's own nearest-neighbour score (``crowding``) compares the top hit with its
+    neighbours over their own shared range; behind a mull's or a solvent's masks two analogs
+    can be much more alike, which is what the query meets (definition, no source).
+    """
+    V = np.array(vs, dtype=np.float64, ndmin=2)
+    if V.shape[0] < 2:
+        return 0.0
+    w = np.asarray(w, dtype=np.float64)
+    x = V[0] * w
+    nx = math.sqrt(float(x @ V[0]))
+    no = np.sqrt(np.maximum((V[1:] * V[1:]) @ w, 0.0))
+    if nx <= 0.0 or not (no > 0).any():
+        return 0.0
+    cos = (V[1:] @ x)[no > 0] / (nx * no[no > 0])
+    return float(np.clip(cos.max(), 0.0, 1.0))
+
+
+def in_one_frame(enc, q, q_prep, vs, preps) -> tuple[np.ndarray, np.ndarray]:
+    """The query and library vectors with every ATR one corrected for the penetration depth
+    (:func:`reflib.analysis.search.atr_factor`), so that they can be compared with each other:
+    how a search compares an ATR spectrum with a transmission one."""
+    from reflib.analysis.search import atr_factor
+
+    def atr(tokens) -> bool:
+        return "atr" in tokens
+
+    f = None
+    q = np.asarray(q, np.float64)
+    V = np.array(vs, dtype=np.float64, ndmin=2)
+    if atr(q_prep) or any(atr(p) for p in preps):
+        f = atr_factor(enc)
+        if atr(q_prep):
+            q = q * f
+        for i, p in enumerate(preps):
+            if atr(p):
+                V[i] = V[i] * f
+    return q, V
+
+
+def band_offsets(query: PeakList, ref: PeakList, matched) -> dict[str, float]:
+    """How the matched bands of a query and its top hit sit against each other, once one
+    common shift (the median offset) is taken out: the robust spread of their position
+    offsets (cm-1; all bands and the fingerprint ones below 1500 cm-1) and of the log ratio of
+    their heights.
+
+    Two measurements of one compound differ by a common shift and a little jitter per band; a
+    homologue or isomer moves its coupled skeletal bands below about 1500 cm-1 by several cm-1
+    each, in no common direction (common practice, no source). NaN with fewer than four pairs.
+    """
+    out = {"offset_sd": float("nan"), "offset_sd_fp": float("nan"), "height_sd": float("nan")}
+    if len(matched) < 4:
+        return out
+    m = np.asarray(matched, dtype=float)
+    qpos, rpos = m[:, 0], m[:, 1]
+    d = qpos - rpos
+    out["offset_sd"] = _robust_sd(d)
+    fp = rpos < FINGERPRINT_BELOW
+    if fp.sum() >= 4:
+        out["offset_sd_fp"] = _robust_sd(d[fp])
+    qi = np.searchsorted(query.positions, qpos).clip(0, max(len(query) - 1, 0))
+    ri = np.searchsorted(ref.positions, rpos).clip(0, max(len(ref) - 1, 0))
+    lr = np.log(np.clip(query.intensities[qi], 1e-6, None)) - np.log(
+        np.clip(ref.intensities[ri], 1e-6, None)
+    )
+    out["height_sd"] = _robust_sd(lr)
+    return out
+
+
+#: Skeletal bands below this wavenumber (cm-1) couple across the molecule (common practice,
+#: no source).
+FINGERPRINT_BELOW = 1500.0
+
+
+def _robust_sd(d: np.ndarray) -> float:
+    """1.4826 times the median absolute deviation from the median (the sd of a normal
+    sample, robust to a few mismatched pairs)."""
+    import statistics
+
+    v = [float(x) for x in d]  # a few dozen values: plain floats beat numpy's median here
+    m = statistics.median(v)
+    return 1.4826 * statistics.median([abs(x - m) for x in v])

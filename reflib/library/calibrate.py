@@ -200,6 +200,11 @@ def collect(
                     if u >= 0
                     else 0.0
                 )
+                near = cal.top_distinct(sc[:, j], cids, 1 + cal.NEIGHBOURS_SEEN)
+                _, V = cal.in_one_frame(
+                    enc, qmat[j], tokens, idx.matrix[near], [group_of(int(r)).prep for r in near]
+                )
+                offsets = cal.band_offsets(q, rp, ex.matched)
                 feats.append(
                     [
                         s1[j],
@@ -211,6 +216,10 @@ def collect(
                         len(q),
                         crowd,
                         pair,
+                        cal.crowding_seen(V, w),
+                        offsets["offset_sd"],
+                        offsets["offset_sd_fp"],
+                        offsets["height_sd"],
                     ]
                 )
                 correct.append((not left_out) and cids[t] == cids[row])

@@ -21,7 +21,15 @@ from typing import Any
 
 import numpy as np
 
-from reflib.analysis.calibration import MIN_COMPOUNDS, candidates_alike, mask_share
+from reflib.analysis.calibration import (
+    MIN_COMPOUNDS,
+    NEIGHBOURS_SEEN,
+    band_offsets,
+    candidates_alike,
+    crowding_seen,
+    in_one_frame,
+    mask_share,
+)
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.phase import gas_against_condensed, strict_verdict
 from reflib.analysis.search import (
@@ -411,7 +419,7 @@ class Library:
             reason = "the library is empty" if idx.size == 0 else "no bands in the query"
             return SearchResult(None, tokens, (lo, hi), "no-match", reason, [], masked)
         # best spectrum per compound: look at enough rows to find top+1 distinct compounds
-        want = max(top, 2)
+        want = max(top, 2, 1 + NEIGHBOURS_SEEN)  # the runners-up of crowd_seen too
         k = min(idx.size, max(4 * want, 32))
         while True:
             cand = np.argpartition(-scores, k - 1)[:k] if k < idx.size else np.arange(idx.size)
@@ -491,6 +499,12 @@ class Library:
             if len(picks) > 1
             else 0.0
         )
+        seen_rows = picks[: 1 + NEIGHBOURS_SEEN]
+        _, near = in_one_frame(
+            enc, q, tokens, idx.matrix[seen_rows], [group_of(i).prep for i in seen_rows]
+        )
+        features["crowd_seen"] = crowding_seen(near, explanations[0][2])
+        features.update(band_offsets(peaks, explanations[0][1], ex1.matched))
         verdict, reason, confidence = self._verdict(features, idx.size)
         if gas_against_condensed(tokens, hits[0].prep):
             verdict, reason = strict_verdict(verdict, reason, features)

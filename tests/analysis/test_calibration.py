@@ -120,7 +120,15 @@ def _synthetic(n, rng):
     nb = rng.integers(8, 30, n)
     crowd = rng.uniform(0.6, 0.9, n)
     pair = np.clip(score - margin - np.where(right, rng.normal(0.0, 0.03, n), 0.05), 0.0, 1.0)
-    X = np.column_stack([score, margin, new, missing, strength, share, nb, crowd, pair])
+    crowd_seen = np.clip(crowd + rng.normal(0.02, 0.03, n), 0.0, 1.0)
+    offset = np.where(right, rng.gamma(4.0, 0.35, n), rng.gamma(4.0, 0.7, n))
+    offset_fp = offset * rng.uniform(0.8, 1.3, n)
+    offset_fp[rng.random(n) < 0.05] = np.nan  # fewer than four fingerprint pairs
+    height = np.where(right, rng.gamma(4.0, 0.06, n), rng.gamma(4.0, 0.09, n))
+    X = np.column_stack(
+        [score, margin, new, missing, strength, share, nb, crowd, pair]
+        + [crowd_seen, offset, offset_fp, height]
+    )
     return X, right, present, np.arange(n) // 4
 
 
@@ -152,6 +160,12 @@ def test_fit_keeps_false_confidence_at_the_rate_and_round_trips_as_plain_json():
     assert called[~present2].mean() <= 0.035
     verdicts = {back.decide(dict(zip(cal.FEATURES, row)))[0] for row in X2[:400]}
     assert verdicts == {"confident", "ambiguous", "no-match"}
+    # a search with too few matched bands for the spreads still gets a verdict: the stored
+    # medians stand in for what it lacks
+    lacking = dict(zip(cal.FEATURES, X2[0]), offset_sd=np.nan, offset_sd_fp=np.nan)
+    assert 0.0 <= back.decide(lacking)[2] <= 1.0
+    assert set(back.defaults) == set(cal.MAY_LACK)
+    assert all(np.isfinite(v) for v in back.defaults.values())
 
 
 def test_a_model_of_another_layout_version_is_ignored():
@@ -163,7 +177,7 @@ def test_confidence_rises_with_the_score():
     rng = np.random.default_rng(18)
     X, right, present, groups = _synthetic(1000, rng)
     pieces, _ = cal.fit(X, right, present, groups, seed=2, compare_boosting=False)
-    row = np.array([[0.80, 0.05, 1, 0, 0.8, 0.8, 15, 0.75, 0.70]])
+    row = np.array([[0.80, 0.05, 1, 0, 0.8, 0.8, 15, 0.75, 0.70, 0.77, 2.0, 2.0, 0.3]])
     hi = row.copy()
     hi[0, 0] = 0.95
     # the same margin raises the runner-up too: raise the two candidates' likeness with it,
@@ -210,3 +224,56 @@ def test_a_query_between_two_analogs_is_told_from_a_query_of_one_of_them():
         s1 = cal.pair_score(q, t1, w)
         s2 = cal.pair_score(q, t2, w)
         assert (s2 - pair > 0) == between, (s1, s2, pair)
+
+
+def test_band_offsets_ignore_one_common_shift_and_see_scattered_ones():
+    # two measurements of one compound: the same bands, one common shift (a calibration
+    # offset of the instrument, common practice, no source) and little jitter; a homologue's
+    # coupled skeletal bands below 1500 cm-1 move by several cm-1 each, either way (from
+    # memory)
+    rng = np.random.default_rng(21)
+    ref = np.sort(rng.uniform(500.0, 3100.0, 20))
+    same = ref + 4.0 + rng.normal(0.0, 0.5, ref.size)
+    analog = ref + np.where(ref < 1500.0, rng.normal(0.0, 5.0, ref.size), 0.0)
+    heights = rng.uniform(0.1, 1.0, ref.size)
+    r = PeakList(ref, heights)
+
+    def spread(q):
+        return cal.band_offsets(PeakList(q, heights), r, list(zip(q.tolist(), ref.tolist())))
+
+    a, b = spread(same), spread(analog)
+    assert a["offset_sd"] < 1.0 and a["offset_sd_fp"] < 1.0  # the 4 cm-1 shift is taken out
+    assert b["offset_sd_fp"] > 2.0 > a["offset_sd_fp"]
+    assert a["height_sd"] == pytest.approx(0.0, abs=1e-9)  # the same heights
+    assert np.isnan(cal.band_offsets(r, r, [(1.0, 1.0)] * 3)["offset_sd"])  # too few pairs
+
+
+def test_top_distinct_takes_each_compound_once_best_first():
+    s = np.array([0.9, 0.95, 0.5, 0.7, 0.8])
+    cids = np.array([1, 1, 2, 3, 2])
+    assert cal.top_distinct(s, cids, 2).tolist() == [1, 4]
+    assert cal.top_distinct(s, cids, 5).tolist() == [1, 4, 3]  # only three compounds
+
+
+def test_crowding_seen_is_the_likeness_where_the_query_sees():
+    # a mask (weight 0) over the only bins where two analogs differ makes them alike as the
+    # query sees them (definition of the weighted cosine, no source)
+    top = np.array([1.0, 1.0, 0.0, 1.0])
+    other = np.array([1.0, 1.0, 1.0, 0.0])
+    far = np.array([0.0, 0.0, 1.0, 0.0])
+    vs = np.vstack([top, other, far])
+    assert cal.crowding_seen(vs, np.ones(4)) == pytest.approx(2.0 / 3.0)
+    assert cal.crowding_seen(vs, np.array([1.0, 1.0, 0.0, 0.0])) == pytest.approx(1.0)
+    assert cal.crowding_seen(vs[:1], np.ones(4)) == 0.0  # no runner-up
+
+
+def test_atr_vectors_are_corrected_into_the_transmission_frame():
+    from reflib.analysis.encode import DEFAULT_ENCODING as enc
+    from reflib.analysis.search import atr_factor
+
+    v = np.ones(enc.size)
+    q, vs = cal.in_one_frame(enc, v, ["atr"], np.vstack([v, v]), [("film",), ("atr",)])
+    f = atr_factor(enc)
+    np.testing.assert_allclose(q, f)
+    np.testing.assert_allclose(vs[0], v)
+    np.testing.assert_allclose(vs[1], f)

@@ -155,6 +155,24 @@ def test_the_top_two_candidates_likeness_is_high_within_a_family(big):
     assert unlike < res.features["pair"] - 0.3
 
 
+def test_a_search_sees_the_band_offsets_and_the_crowding_through_its_masks(big):
+    # invented families as above: a member re-measured with one common shift of 4 cm-1 keeps
+    # its bands' offsets together; the same member with each band moved by 4-8 cm-1 either way
+    # (as a homologue's coupled bands move, from memory) spreads them. Its family's other
+    # members share 12 of its 15 bands, so its crowding among its own candidates is high.
+    lib, members = big
+    name, pl = members[4]
+    shifted = PeakList(pl.positions + 4.0, pl.intensities, widths=pl.widths)
+    rng = np.random.default_rng(3)
+    step = np.where(np.arange(len(pl)) % 2 == 0, 1.0, -1.0) * rng.uniform(4.0, 8.0, len(pl))
+    moved = PeakList(pl.positions + step, pl.intensities, widths=pl.widths)
+    a = lib.search(shifted, prep="film")
+    b = lib.search(moved, prep="film")
+    assert a.hits[0].name == name
+    assert a.features["offset_sd"] < 1.0 < 2.5 < b.features["offset_sd"]
+    assert 0.5 < a.features["crowd_seen"] <= 1.0
+
+
 def test_calibration_queries_do_not_depend_on_the_worker_count(monkeypatch):
     """Each query has its own seed drawn in the calling process, so worker processes make the
     same queries as this process does (common practice, no source)."""
