@@ -572,7 +572,7 @@ class Library:
             why = f"{n} compound{'s' * (n != 1)}; a calibrated verdict needs {MIN_COMPOUNDS}"
         else:
             why = "not calibrated for this library yet: run 'reflib calibrate'"
-        return verdict, f"{reason} (fixed rule: {why})", None
+        return verdict, f"{reason}; fixed rule: {why}", None
 
     def _names(self, compound_ids: list[int]) -> dict[int, tuple[str, str]]:
         if not compound_ids:
