@@ -210,8 +210,12 @@ def compare(
     pairs = match_bands(sa, sb, tolerance=tolerance)
     used_a = {i for i, _ in pairs}
     used_b = {j for _, j in pairs}
-    # labels from each side's own group analysis (reflib.chem.groups), by position
-    labels = {id(sa): _labels(pa, a_info, tokens), id(sb): _labels(pb, b_info, tokens)}
+    # labels from each side's own group analysis (reflib.chem.groups), by position, with that
+    # side's own preparation: a film's O-H band is no KBr pellet's water because the other
+    # spectrum was a pellet
+    own_a = list(dict.fromkeys([*extra, *prep_mod.parse_tokens(list(pa.meta.prep))]))
+    own_b = list(dict.fromkeys([*extra, *prep_mod.parse_tokens(list(pb.meta.prep))]))
+    labels = {id(sa): _labels(pa, a_info, own_a), id(sb): _labels(pb, b_info, own_b)}
 
     def note(pl: PeakList, i: int) -> BandNote:
         p = list(pl)[i]

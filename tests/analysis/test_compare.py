@@ -47,6 +47,27 @@ def test_reaction_reads_as_a_chemist_would_say_it():
     assert "broad 3350 band" in text and "appeared" in text
 
 
+def test_each_side_is_labelled_with_its_own_preparation():
+    """The ketone run as a KBr pellet, the alcohol as a film: the film's new O-H band near 3350
+    is the alcohol's, not the pellet's absorbed water (which only a KBr pellet shows; common
+    practice, no source)."""
+    ketone = PeakList(
+        KETONE.positions, KETONE.intensities, KETONE.widths, meta=Metadata(prep=["kbr"])
+    )
+    alcohol = PeakList(
+        ALCOHOL.positions,
+        ALCOHOL.intensities,
+        ALCOHOL.widths,
+        broad=ALCOHOL.broad,
+        meta=Metadata(prep=["film"]),
+    )
+    c = compare(ketone, alcohol)
+    new = {round(b.position): b for b in c.new}
+    assert 3350 in new
+    text = " ".join(new[3350].groups).lower()
+    assert "o-h" in text and "preparation" not in text, new[3350].groups
+
+
 def test_matched_bands_carry_their_shift_and_intensity_factor():
     """Shared skeleton bands match with the shift B - A; the 960 band grew 3.75x."""
     c = compare(KETONE, ALCOHOL)
