@@ -521,7 +521,7 @@ class Library:
                 p2 = comparable_peaks(self.store.peaks_of(p2), g2.prep, enc)
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
-        _annotate(hits[:top], peaks)
+        _annotate(hits[:top], peaks, tokens)
         return SearchResult(
             query_file=None,
             query_prep=tokens,
@@ -684,15 +684,17 @@ def _group_lookup(idx):
     return group_of
 
 
-def _annotate(hits: list[Hit], query: PeakList) -> None:
+def _annotate(hits: list[Hit], query: PeakList, tokens: list[str]) -> None:
     """Label the new bands of each hit with candidate groups (the most telling bands), using
-    the query's group analysis (:func:`reflib.chem.groups.band_texts`)."""
+    the query's group analysis in its preparation ``tokens``, those given with the search
+    included (:func:`reflib.chem.groups.band_texts`)."""
     if not any(h.new for h in hits):
         return  # nothing to label: skip the table look-ups (about 20 ms a query)
-    from reflib.chem.groups import band_texts
+    from reflib.chem.groups import analyse, band_texts
 
     new = {pos for h in hits for pos in h.new}
-    labels = dict(zip(query.positions.tolist(), band_texts(query, only=new)))
+    report = analyse(query, prep=tokens) if tokens else None
+    labels = dict(zip(query.positions.tolist(), band_texts(query, report, only=new)))
     for h in hits:
         for pos in h.new:
             text = labels.get(pos)

@@ -157,3 +157,24 @@ def test_structure_is_stored_and_checked(lib):
     assert lib.store.compound_by_name("not ethanol 2") is None
     with pytest.raises(ValidationError, match="SMILES"):
         lib.add(_pl(ACETONE), name="bad", smiles="C1CC(", check_similar=False)
+
+
+def test_new_bands_are_labelled_in_the_preparation_given_to_the_search(tmp_path):
+    """A KBr pellet's absorbed water shows a weak band near 1635 cm-1 (common practice, no
+    source). A query typed without a preparation and searched with --prep kbr: that band, new
+    against the reference, is labelled as the pellet's, not as an alkene's C=C."""
+    lib = Library.create(tmp_path / "kbr.sqlite")
+    ref = PeakList(
+        [2960.0, 2870.0, 1715.0, 1460.0, 1365.0, 1220.0],
+        [0.5, 0.3, 1.0, 0.3, 0.4, 0.35],
+        meta=Metadata(prep=["kbr"]),
+    )
+    lib.add(ref, name="a ketone", prep="kbr")
+    q = PeakList(
+        [2960.0, 2870.0, 1715.0, 1636.0, 1460.0, 1365.0, 1220.0],
+        [0.5, 0.3, 1.0, 0.15, 0.3, 0.4, 0.35],
+    )
+    hit = lib.search(q, prep="kbr", top=1).hits[0]
+    assert hit.new == [1636.0]
+    assert "preparation (kbr)" in hit.annotations["1636.0"], hit.annotations
+    lib.close()
