@@ -34,8 +34,9 @@ part of its walls (while less than a tenth of the light nearby comes through,
 :data:`WALL_DEPTH`) before the baseline, the baseline is computed on each piece between holes
 (it never bridges one; beside a hole it is the higher of the rolling baseline and the lower
 convex hull of the piece, which follows the rest of the wall, :func:`lower_hull`), no band is
-reported in or at the edge of a hole, and the cut ranges are listed in
-``meta.extra['holes']`` so that the comparison counts them as not covered.
+reported in or at the edge of a hole, and the cut ranges with that edge (the smoothing's
+reach, a few points) are listed in ``meta.extra['holes']`` so that the comparison counts
+them as not covered.
 
 Bands the trace shows no maximum for, or only a shallow dip beside a stronger band, are found
 in the second derivative (:func:`derivative_bands`): their prominence is their height above
@@ -620,7 +621,11 @@ def pick_peaks(
     for start, stop in band_runs:
         lo, hi = max(0, start - margin), min(x.size, stop + margin)
         ys[lo:hi] = np.max(ys[lo:hi])
+    # No band is reported within the smoothing's reach of a cut (the smoothed trace mixes the
+    # cut's zeros in there), so that edge is not measured either: the reported holes include
+    # it, and the comparison does not score a reference band there as absent.
     near_cut = _dilate(cut, margin + 1)
+    holes = [tuple(r) for r in _runs(near_cut)] if holes else []
     ys[cut] = 0.0
 
     distance = max(1, int(round(min_separation_cm1 / step)))
