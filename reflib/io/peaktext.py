@@ -873,7 +873,7 @@ _PLAIN_ANY = re.sub(r"\?P<\w+>", "?:", _PLAIN_BAND)
 #: (:meth:`PeakList.to_text`) and how most typed lists look; everything else is tokenized.
 _PLAIN = re.compile(
     rf"[ \t]*(?:(?P<ir>IR)\ \((?P<prep>[A-Za-z][A-Za-z0-9]*)\):?\ )?"
-    rf"(?P<bands>{_PLAIN_ANY}(?:,\ {_PLAIN_ANY})*)\ cm-1[ \t]*\n?"
+    rf"(?P<bands>{_PLAIN_ANY}(?:,\ {_PLAIN_ANY})*)\ cm-1[ \t]*\r?\n?"
 )
 _PLAIN_ONE = re.compile(_PLAIN_BAND)
 

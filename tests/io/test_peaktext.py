@@ -607,7 +607,7 @@ def _plain_texts(draw):
         word = draw(st.sampled_from(_PREP_WORDS))
         word = draw(st.sampled_from([word, word.upper(), word.capitalize()]))
         prefix = f"IR ({word}){draw(st.sampled_from([':', '']))} "
-    ending = draw(st.sampled_from(["", "\n", "  ", " \n"]))
+    ending = draw(st.sampled_from(["", "\n", "  ", " \n", "\r\n"]))  # \r\n: a Windows file
     return f"{prefix}{', '.join(bands)} cm-1{ending}"
 
 
