@@ -125,9 +125,16 @@ def _print_search(res, explain_top: int = 3) -> None:
     for h in res.hits:
         typer.echo(f"{h.rank:>4}  {h.score:5.3f}  {h.name:<{width}}  {h.role}")
     typer.echo(f"verdict: {res.verdict} ({res.reason})")
+    air = [(lo_, hi_) for lo_, hi_, why in res.masked if "atmospheric CO2" in why]
     for h in res.hits[:explain_top]:
         typer.echo(f"#{h.rank} {h.name}:")
-        typer.echo("  matched: " + (", ".join(f"{a:.0f}~{b:.0f}" for a, b in h.matched) or "none"))
+        # a pair where the room's CO2 absorbs is marked: it may be the air's in both spectra
+        in_air = [any(lo_ <= a <= hi_ for lo_, hi_ in air) for a, _ in h.matched]
+        pairs = [
+            f"{a:.0f}~{b:.0f}" + (" (CO2 region)" if mark else "")
+            for (a, b), mark in zip(h.matched, in_air)
+        ]
+        typer.echo("  matched: " + (", ".join(pairs) or "none"))
         typer.echo(
             "  missing in the unknown: " + (", ".join(f"{m:.0f}" for m in h.missing) or "none")
         )

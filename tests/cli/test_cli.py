@@ -177,3 +177,21 @@ def test_show_prints_the_authors_labels_beside_reflibs_reading(tmp_path):
     notes = {n["position"]: n for n in spectrum["label_notes"]}
     assert notes[1745.0]["author"] == "C=O" and "C=O" in notes[1745.0]["reflib"]
     assert notes[1745.0]["agree"] is True
+
+
+def test_a_band_matched_in_the_airs_co2_region_is_marked(libpath, tmp_path):
+    """The room's CO2 (2360/2340 doublet; common practice, no source) shows in a sample and a
+    reference measured against different backgrounds: a pair matched in the CO2 region is
+    marked, so that the air's band is not read as evidence for the compound."""
+    r = runner.invoke(
+        app,
+        ["add", "-L", str(libpath), "--name", "benzonitrile, wet run", "--peaks",
+         "3060 w, 2361 w, 2228 s, 1598 w, 1489 m, 1447 m, 758 vs, 688 vs cm-1"],
+    )  # fmt: skip
+    assert r.exit_code == 0, r.output
+    q = tmp_path / "unknown.txt"
+    q.write_text("IR (film): 3060 w, 2360 w, 2228 s, 1598 w, 1489 m, 1447 m, 758 vs, 688 vs cm-1")
+    r = runner.invoke(app, ["search", "-L", str(libpath), str(q)])
+    assert r.exit_code == 0, r.output
+    matched = next(line for line in r.output.splitlines() if "matched:" in line)
+    assert "2360~2361 (CO2 region)" in matched and "2228~2228," in matched, matched
