@@ -42,7 +42,10 @@ def print_leftover(res: Any) -> None:
             f"(95 % interval {_fmt_share(lo)} - {_fmt_share(hi)})"
         )
     if d["upper_bound"] is not None:
-        typer.echo(f"upper bound on the share: {_fmt_share(d['upper_bound'])}")
+        typer.echo(
+            "upper bound on the share (the most the sample leaves room for): "
+            f"{_fmt_share(d['upper_bound'])}"
+        )
     typer.echo(f"detection limit for this pair: about {_fmt_share(d['detection_limit'])}")
     if d["diagnostic_bands"]:
         typer.echo(f"{'band cm-1':>10}  {'seen':>4}  {'in sample':>9}")

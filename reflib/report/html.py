@@ -124,7 +124,7 @@ def _leftover_body(res) -> tuple[str, str, list[str]]:
         ("detected", "yes" if res.detected else "no"),
         ("share of the signal", pct(res.share)),
         ("95 % interval", "-" if iv is None else f"{pct(iv[0])} - {pct(iv[1])}"),
-        ("upper bound on the share", pct(res.upper_bound)),
+        ("upper bound on the share (the most the sample leaves room for)", pct(res.upper_bound)),
         ("detection limit for this pair", pct(res.detection_limit)),
     ]
     parts = ["<h2>Result</h2>", _table(["", ""], rows)]

@@ -385,7 +385,8 @@ def leftover_result(d: Mapping[str, Any], plot: str | None) -> str:
         lo, hi = d["share_interval"]
         lines.append(f"share of the signal {_share(d['share'])} (95 % {_share(lo)}–{_share(hi)})")
     if d["upper_bound"] is not None:
-        lines.append(f"upper bound on the share {_share(d['upper_bound'])}")
+        room = _share(d["upper_bound"])
+        lines.append(f"upper bound on the share (the most the sample leaves room for) {room}")
     lines.append(f"detection limit for this pair about {_share(d['detection_limit'])}")
     bands = "".join(
         f'<tr><td class="num">{b["position"]:.0f}</td><td>{"yes" if b["seen"] else "no"}</td>'
