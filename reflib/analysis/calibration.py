@@ -723,16 +723,19 @@ NEIGHBOURS_SEEN = 6
 
 def top_distinct(scores: np.ndarray, compound_ids: np.ndarray, k: int) -> np.ndarray:
     """Rows of the best-scoring reference of each of the ``k`` best compounds in one score
-    column (fewer when the library has fewer compounds), best first."""
+    column (fewer when the library has fewer compounds), best first. Rows scored -inf (left
+    out by a filtered search) never count."""
     s = np.asarray(scores)
     n = s.size
-    m = min(n, max(8 * k, 32))
+    m = min(n, max(4 * k, 32))
     while True:
         cand = np.argpartition(-s, m - 1)[:m] if m < n else np.arange(n)
         cand = cand[np.argsort(-s[cand], kind="stable")]
         out: list[int] = []
         seen: set[int] = set()
         for i in cand.tolist():
+            if not np.isfinite(s[i]):
+                return np.array(out, dtype=np.int64)  # the rest are filtered out too
             c = int(compound_ids[i])
             if c not in seen:
                 seen.add(c)

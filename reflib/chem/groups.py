@@ -1010,10 +1010,10 @@ def _carboxylate_plausible(report: GroupReport, peaks: PeakList) -> bool:
     an aromatic ring's 1600/1580 pair or an amide II band alone does not make a salt."""
     if report.call("carbonyl").call == "present":
         return False
-    rows = [r for r in bands.table() if r.id == "carboxylate_asym" and r.in_phase(report.phase)]
-    if not rows:
+    window = _row_window("carboxylate_asym", report.phase)
+    if window is None:
         return False
-    lo, hi = rows[0].range_for(report.phase)
+    lo, hi = window
     pos, inten = peaks.positions, peaks.intensities
     return bool(((pos >= lo) & (pos <= hi) & (inten >= CARBOXYLATE_BAND_AT_LEAST)).any())
 
@@ -1032,6 +1032,22 @@ def _co_windows(phase: str) -> tuple[tuple[float, float], ...]:
     )
 
 
+@lru_cache(maxsize=16)
+def _row_window(row_id: str, phase: str) -> tuple[float, float] | None:
+    """The window (cm-1) of one correlation-table row in ``phase``, None if it has none there."""
+    for r in bands.table():
+        if r.id == row_id and r.in_phase(phase):
+            return r.range_for(phase)
+    return None
+
+
+def _with_rules(call: GroupCall, phase: str) -> list[tuple[Rule, Evidence]]:
+    """A call's evidence beside the rules it came from (``_call_group`` writes one item of
+    evidence per rule of the group, in table order); empty if they do not line up."""
+    rules_ = _rules_of(call.group, phase)
+    return list(zip(rules_, call.evidence)) if len(rules_) == len(call.evidence) else []
+
+
 def _claimed_bands(report: GroupReport, peaks: PeakList) -> set[float | None]:
     """Bands that a group called present needs: each seen band of its evidence that is the only
     band in that rule's window strong enough for it (where the window holds another, as an
@@ -1042,10 +1058,7 @@ def _claimed_bands(report: GroupReport, peaks: PeakList) -> set[float | None]:
     for c in report.groups:
         if c.call != "present":
             continue
-        rules_ = _rules_of(c.group, report.phase)
-        if len(rules_) != len(c.evidence):
-            continue
-        for r, e in zip(rules_, c.evidence):
+        for r, e in _with_rules(c, report.phase):
             if not e.seen or e.need == "clean":
                 continue
             lo, hi = e.window
@@ -1061,11 +1074,8 @@ def _keys_taken(call: GroupCall, claimed: set[float | None], phase: str) -> bool
     are evidence of a group called present: a possible group is then named at none of its
     bands, since the band it needs is another group's (a nitro's asymmetric stretch read into
     an amide II band, an alcohol's O-H into an amide's N-H)."""
-    rules_ = _rules_of(call.group, phase)
-    if len(rules_) != len(call.evidence):
-        return False
     key_sets: dict[str, list[Evidence]] = {}
-    for i, (r, e) in enumerate(zip(rules_, call.evidence)):
+    for i, (r, e) in enumerate(_with_rules(call, phase)):
         if r.need == "key":
             key_sets.setdefault(r.alt or f"#{i}", []).append(e)
     for members in key_sets.values():

@@ -62,11 +62,6 @@ def _decode(data: bytes, path: Path) -> tuple[str, str]:
     return text, digest
 
 
-def _read_text(path: str | Path) -> tuple[str, str]:
-    """Return (text, sha256 hex) of a file, with clear errors for the usual mistakes."""
-    return _decode(read_bytes(path), Path(path))
-
-
 #: File name endings of JCAMP-DX. The content decides the reader; these only let an error
 #: say that a file so named is not JCAMP-DX.
 JCAMP_SUFFIXES = frozenset({".jdx", ".dx", ".jcamp", ".jcm"})

@@ -29,6 +29,7 @@ from reflib.analysis.calibration import (
     crowding_seen,
     in_one_frame,
     mask_share,
+    top_distinct,
 )
 from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks, encode
 from reflib.analysis.phase import gas_against_condensed, strict_verdict
@@ -420,24 +421,7 @@ class Library:
             return SearchResult(None, tokens, (lo, hi), "no-match", reason, [], masked)
         # best spectrum per compound: look at enough rows to find top+1 distinct compounds
         want = max(top, 2, 1 + NEIGHBOURS_SEEN)  # the runners-up of crowd_seen too
-        k = min(idx.size, max(4 * want, 32))
-        while True:
-            cand = np.argpartition(-scores, k - 1)[:k] if k < idx.size else np.arange(idx.size)
-            cand = cand[np.argsort(-scores[cand], kind="stable")]
-            picks: list[int] = []
-            seen: set[int] = set()
-            for i in cand:
-                if not np.isfinite(scores[i]):
-                    break  # filtered out (see _search_prepared)
-                cid = int(idx.compound_ids[i])
-                if cid not in seen:
-                    seen.add(cid)
-                    picks.append(int(i))
-                    if len(picks) >= want:
-                        break
-            if len(picks) >= want or k >= idx.size or not np.isfinite(scores[cand[-1]]):
-                break
-            k = min(idx.size, 4 * k)
+        picks = top_distinct(scores, idx.compound_ids, want).tolist()
         group_of = _group_lookup(idx)
         hits: list[Hit] = []
         explanations = []

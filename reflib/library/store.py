@@ -192,18 +192,9 @@ def spectrum_row(
 
 def peak_rows(spectrum_id: int, peaks: PeakList) -> list[tuple]:
     """The ``peaks`` rows of one peak list, in :data:`PEAKS_INSERT` column order."""
-    labels = peaks.labels if peaks.labels is not None else [None] * len(peaks)
     return [
         (spectrum_id, pos, inten, None if w != w else w, word, int(b), int(sh), label)
-        for pos, inten, w, word, b, sh, label in zip(
-            peaks.positions.tolist(),
-            peaks.intensities.tolist(),
-            peaks.widths.tolist(),
-            peaks.strengths,
-            peaks.broad.tolist(),
-            peaks.shoulder.tolist(),
-            labels,
-        )
+        for pos, inten, w, word, b, sh, label in peaks  # PeakList yields Peak tuples
     ]
 
 
