@@ -12,6 +12,8 @@ that needs one weight vector and one matrix product; the ranking is exact.
 
 from __future__ import annotations
 
+import threading
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from functools import lru_cache
 from typing import Any
@@ -37,9 +39,19 @@ CAUTION = (
 )
 
 
+#: The band-by-band fields of a :class:`Hit` that may be filled on first reading.
+EXPLAINED_FIELDS = ("matched", "missing", "new", "annotations")
+
+
 @dataclass
 class Hit:
-    """One reference in the hit list."""
+    """One reference in the hit list.
+
+    The band-by-band fields (``matched``, ``missing``, ``new``, ``annotations``) of a hit below
+    the first are worked out when first read (:meth:`later`): a text report prints them for
+    the top hit only, so a search does not pay for the rest unless something reads them (the
+    JSON output and the web page do). The answer is the same either way.
+    """
 
     rank: int
     name: str
@@ -69,6 +81,29 @@ class Hit:
         if self.annotations:
             d["annotations"] = dict(self.annotations)
         return d
+
+    def later(self, fill) -> Hit:
+        """Leave the band-by-band fields to ``fill(hit)``, called once on first reading (it sets
+        them all). Returns the hit."""
+        for name in EXPLAINED_FIELDS:
+            self.__dict__.pop(name, None)
+        self.__dict__["_fill"] = fill
+        return self
+
+    def __getattr__(self, name: str):
+        # only reached when the attribute is not set: a field left to later()
+        fill = self.__dict__.get("_fill")
+        if fill is None or name not in EXPLAINED_FIELDS:
+            raise AttributeError(f"{type(self).__name__!r} object has no attribute {name!r}")
+        fill(self)  # sets every field (harmless if two threads both get here)
+        self.__dict__.pop("_fill", None)
+        return self.__dict__[name]
+
+    def __getstate__(self) -> dict[str, Any]:
+        # a copy or a pickle (another process) gets the fields, not the function that fills them
+        for name in EXPLAINED_FIELDS:
+            getattr(self, name)
+        return dict(self.__dict__)
 
 
 @dataclass
@@ -299,7 +334,10 @@ def score_block(
     shape = (refs.shape[0], q.shape[0])
     into = out if out is not None and out.dtype == np.float32 else np.empty(shape, np.float32)
     # float32 and in place: for a batch the (refs x queries) block is the big array
-    np.matmul(np.asarray(refs), wq, out=into)
+    if q.shape[0] == 1 and _by_columns(refs):
+        sparse_matvec(refs, wq[:, 0], into[:, 0])
+    else:
+        np.matmul(np.asarray(refs), wq, out=into)
     if q.shape[0] == 1:  # one query: its norm folds into the one pass over the column
         into *= (inv_norms * np.float32(1.0 / qn[0] if qn[0] > 0 else 0.0))[:, None]
     else:
@@ -311,6 +349,82 @@ def score_block(
         out[...] = into
         return out
     return into
+
+
+#: A single query is multiplied run by run (:func:`sparse_matvec`) when its non-zero bins are
+#: at most this share of all bins; above it one pass over the whole matrix is as fast.
+SPARSE_SHARE = 0.6
+
+
+#: Runs of non-zero bins at most this many zero bins apart are read as one: a product call
+#: costs about as much as reading a few more columns.
+RUN_GAP = 6
+
+
+def _by_columns(refs: np.ndarray) -> bool:
+    """True for a column-major (n, bins) array, whose columns are contiguous."""
+    return refs.ndim == 2 and refs.shape[0] > 1 and refs.strides[0] == refs.itemsize
+
+
+def nonzero_runs(v: np.ndarray, gap: int = 0) -> tuple[np.ndarray, np.ndarray]:
+    """Start and stop indices of the runs of non-zero entries of ``v``; runs apart by at most
+    ``gap`` zeros are joined.
+
+    >>> [a.tolist() for a in nonzero_runs(np.array([0, 1, 2, 0, 0, 3, 0, 4]))]
+    [[1, 5, 7], [3, 6, 8]]
+    >>> [a.tolist() for a in nonzero_runs(np.array([0, 1, 2, 0, 0, 3, 0, 4]), gap=1)]
+    [[1, 5], [3, 8]]
+    """
+    nz = np.flatnonzero(v)
+    if nz.size == 0:
+        return nz, nz
+    breaks = np.flatnonzero(np.diff(nz) > 1 + gap)
+    return np.r_[nz[0], nz[breaks + 1]], np.r_[nz[breaks] + 1, nz[-1] + 1]
+
+
+def sparse_matvec(refs: np.ndarray, v: np.ndarray, out: np.ndarray) -> np.ndarray:
+    """``refs @ v`` into ``out`` (float32), reading only the columns where ``v`` is non-zero.
+
+    A query's bands cover about a third of the bins, in a handful of runs; on a column-major
+    matrix each run is one contiguous block, so a search reads a third of the matrix instead
+    of all of it. Falls back to the full product when ``v`` is mostly non-zero.
+    """
+    starts, stops = nonzero_runs(v, gap=RUN_GAP)
+    if int((stops - starts).sum()) > SPARSE_SHARE * v.size:
+        np.matmul(np.asarray(refs), v, out=out)
+        return out
+    refs = np.asarray(refs)  # a plain view: slicing a memory map costs more per slice
+    out[...] = 0.0
+    part = np.empty_like(out)
+    with _one_blas_thread():
+        for a, b in zip(starts.tolist(), stops.tolist()):
+            np.matmul(refs[:, a:b], v[a:b], out=part)
+            out += part
+    return out
+
+
+_BLAS_LOCK = threading.Lock()
+
+
+@contextmanager
+def _one_blas_thread():
+    """Run the block under one BLAS thread (threadpoolctl), one thread of ours at a time.
+
+    Each run of :func:`sparse_matvec` is a small product: a second BLAS thread saves little on
+    an idle machine and, on a busy one, waiting for it costs several times the product (see
+    docs/speed.md). The lock keeps two searches in threads of one process from restoring each
+    other's setting wrongly.
+    """
+    with _BLAS_LOCK:
+        with _blas_controller().limit(limits=1, user_api="blas"):
+            yield
+
+
+@lru_cache(maxsize=1)
+def _blas_controller():
+    from threadpoolctl import ThreadpoolController
+
+    return ThreadpoolController()
 
 
 def inverse_norms(norms: np.ndarray) -> np.ndarray:

@@ -60,7 +60,7 @@ from reflib.library.entries import (
 from reflib.library.filters import Where, matching_compounds, restricted_search, tags_of
 from reflib.library.history import history_of, record, record_add
 from reflib.library.index import range_key
-from reflib.library.store import Store, normalise_role
+from reflib.library.store import Store, normalise_role, peaks_from_rows
 from reflib.spectrum import PeakList, Spectrum
 
 #: Queries scored together in one matrix product by :meth:`Library.search_many`.
@@ -423,10 +423,13 @@ class Library:
         want = max(top, 2, 1 + NEIGHBOURS_SEEN)  # the runners-up of crowd_seen too
         picks = top_distinct(scores, idx.compound_ids, want).tolist()
         group_of = _group_lookup(idx)
+        labels = _Labels(peaks, tokens)
         hits: list[Hit] = []
         explanations = []
         names = self._names([int(idx.compound_ids[i]) for i in picks])
-        stored = self.store.peaks_of_many(int(idx.spectrum_ids[i]) for i in picks[:top])
+        # the top hits' rows are read now, inside the search's snapshot; the peak lists of
+        # hits below the first are made only when their explanation is read
+        stored = self.store.peak_rows_of_many(int(idx.spectrum_ids[i]) for i in picks[:top])
         for rank, i in enumerate(picks, start=1):
             sid = int(idx.spectrum_ids[i])
             cid = int(idx.compound_ids[i])
@@ -435,28 +438,16 @@ class Library:
                 explanations.append((None, sid, g))
                 hits.append(Hit(rank, names[cid][0], cid, sid, float(scores[i]), names[cid][1]))
                 continue
-            ref_peaks = comparable_peaks(stored[sid], g.prep, enc)
-            w = comparison_weights(
-                enc, tokens, g.prep, qrange, (g.lo, g.hi), profile, _holes(peaks)
-            )
-            qp, rp, w, tol = explain_args(peaks, ref_peaks, tokens, g.prep, grid, w)
-            atr = atr_side(tokens, g.prep) is not None
-            ex = explain(qp, rp, grid, w, tolerance=max(tol, _tolerance(atr)))
+            hit = Hit(rank, names[cid][0], cid, sid, float(scores[i]), names[cid][1], list(g.prep))
+            hits.append(hit)
+            if rank > 1:  # explained when first read (printed in JSON, not in the text report)
+                explanations.append((None, sid, g))
+                hit.later(_explainer(enc, peaks, stored[sid], tokens, g, qrange, profile, labels))
+                continue
+            ref = peaks_from_rows(*stored[sid])
+            ex, ref_peaks, w = _explain_one(enc, peaks, ref, tokens, g, qrange, profile)
             explanations.append((ex, ref_peaks, w))
-            hits.append(
-                Hit(
-                    rank=rank,
-                    name=names[cid][0],
-                    compound_id=cid,
-                    spectrum_id=sid,
-                    score=float(scores[i]),
-                    role=names[cid][1],
-                    prep=list(g.prep),
-                    matched=ex.matched,
-                    missing=ex.missing,
-                    new=ex.new,
-                )
-            )
+            hit.matched, hit.missing, hit.new = ex.matched, ex.missing, ex.new
         ex1 = explanations[0][0]
         s1 = hits[0].score
         s2 = hits[1].score if len(hits) > 1 else 0.0
@@ -502,10 +493,15 @@ class Library:
             _, p1, w1 = explanations[0]
             ex2, p2, g2 = explanations[1]
             if ex2 is None:
-                p2 = comparable_peaks(self.store.peaks_of(p2), g2.prep, enc)
+                sid2 = p2
+                p2 = comparable_peaks(
+                    peaks_from_rows(*stored[sid2]) if sid2 in stored else self.store.peaks_of(sid2),
+                    g2.prep,
+                    enc,
+                )
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
-        _annotate(hits[:top], peaks, tokens)
+        labels.annotate(hits[0])
         return SearchResult(
             query_file=None,
             query_prep=tokens,
@@ -668,22 +664,58 @@ def _group_lookup(idx):
     return group_of
 
 
-def _annotate(hits: list[Hit], query: PeakList, tokens: list[str]) -> None:
-    """Label the new bands of each hit with candidate groups (the most telling bands), using
-    the query's group analysis in its preparation ``tokens``, those given with the search
-    included (:func:`reflib.chem.groups.band_texts`)."""
-    if not any(h.new for h in hits):
-        return  # nothing to label: skip the table look-ups (about 20 ms a query)
-    from reflib.chem.groups import analyse, band_texts
+def _explain_one(enc, peaks, stored, tokens, g, qrange, profile):
+    """The band-by-band explanation of one hit (its reference's bands ``stored``, comparison
+    group ``g``): (Explanation, the reference's comparable bands, the comparison weights)."""
+    ref_peaks = comparable_peaks(stored, g.prep, enc)
+    w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile, _holes(peaks))
+    qp, rp, w, tol = explain_args(peaks, ref_peaks, tokens, g.prep, enc.grid(), w)
+    atr = atr_side(tokens, g.prep) is not None
+    return explain(qp, rp, enc.grid(), w, tolerance=max(tol, _tolerance(atr))), ref_peaks, w
 
-    new = {pos for h in hits for pos in h.new}
-    report = analyse(query, prep=tokens) if tokens else None
-    labels = dict(zip(query.positions.tolist(), band_texts(query, report, only=new)))
-    for h in hits:
-        for pos in h.new:
-            text = labels.get(pos)
+
+def _explainer(enc, peaks, stored, tokens, g, qrange, profile, labels):
+    """What fills a hit's band-by-band fields when they are first read (:meth:`Hit.later`)."""
+
+    def fill(hit: Hit) -> None:
+        ref = peaks_from_rows(*stored)
+        ex, _, _ = _explain_one(enc, peaks, ref, tokens, g, qrange, profile)
+        hit.matched, hit.missing, hit.new = ex.matched, ex.missing, ex.new
+        hit.annotations = {}
+        labels.annotate(hit)
+
+    return fill
+
+
+class _Labels:
+    """Candidate-group labels of a query's bands (the most telling bands), from the query's
+    group analysis in its preparation ``tokens``, those given with the search included
+    (:func:`reflib.chem.groups.band_texts`). The analysis is made once, when a hit first has
+    a new band to label."""
+
+    def __init__(self, query: PeakList, tokens: list[str]):
+        self.query, self.tokens = query, tokens
+        self._report = self._done = None
+
+    def annotate(self, hit: Hit) -> None:
+        """Label ``hit``'s new bands (into its ``annotations``)."""
+        if not hit.new:
+            return  # nothing to label: skip the table look-ups
+        from reflib.chem.groups import analyse, band_texts
+
+        if self._done is None:
+            self._report = analyse(self.query, prep=self.tokens) if self.tokens else None
+            self._done = {}
+        todo = [p for p in hit.new if p not in self._done]
+        if todo:
+            texts = band_texts(self.query, self._report, only=set(todo))
+            self._done.update(
+                (p, t) for p, t in zip(self.query.positions.tolist(), texts) if p in todo
+            )
+        for pos in hit.new:
+            text = self._done.get(pos)
             if text:
-                h.annotations[f"{pos:.1f}"] = text
+                hit.annotations[f"{pos:.1f}"] = text
 
 
 def _holes(peaks: PeakList) -> tuple[tuple[float, float], ...]:

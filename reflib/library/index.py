@@ -2,13 +2,17 @@
 
 SQLite stays the source of truth. The index is a cache file beside the library
 (``<library>.reflib-index``) holding every vector with its rows sorted by comparison group
-(preparation tokens and covered range), so a search reads each group as one contiguous block.
+(preparation tokens and covered range). The matrix is stored column by column (bin by bin):
+a query's bands cover about a third of the bins, in a few runs, and a search reads only the
+columns of those runs (:func:`reflib.analysis.search.score_block`).
 The file is keyed by the library's revision, its encoding and its creation stamp; a key that
 does not match means the cache is stale and is rebuilt (written to a temporary file, then
 renamed over the old one, so a reader never sees half a file).
 
-Layout: 8 bytes magic ``RFLIDX01``, 8 bytes little-endian header length, a JSON header, zero
-padding to a multiple of 64 bytes, then ``n x bins`` little-endian float32 values, row-major.
+Layout: 8 bytes magic ``RFLIDX02``, 8 bytes little-endian header length, a JSON header, zero
+padding to a multiple of 64 bytes, then ``n x bins`` little-endian float32 values, column-major
+(all rows of bin 0, then of bin 1, ...). A file of another layout (``RFLIDX01`` was row-major)
+is not read; it is rebuilt like a stale one.
 """
 
 from __future__ import annotations
@@ -25,7 +29,10 @@ import numpy as np
 
 from reflib.library.store import Store, VectorSet
 
-MAGIC = b"RFLIDX01"
+MAGIC = b"RFLIDX02"
+
+#: Rows copied at a time into the column-major matrix (bounds the extra memory of a build).
+COPY_ROWS = 4096
 SUFFIX = ".reflib-index"
 
 
@@ -48,7 +55,7 @@ class Index:
     spectrum_ids: np.ndarray
     compound_ids: np.ndarray
     groups: list[Group]
-    matrix: np.ndarray  # (n, bins) float32, possibly a read-only memory map
+    matrix: np.ndarray  # (n, bins) float32, column-major, possibly a read-only memory map
     #: weighted reference norms already computed, by (group start, weight digest); see
     #: :func:`reflib.analysis.search.score_index`
     norms: dict = field(default_factory=dict, repr=False)
@@ -120,8 +127,17 @@ def build(store: Store) -> Index:
         spectrum_ids=vs.spectrum_ids[order],
         compound_ids=vs.compound_ids[order],
         groups=groups,
-        matrix=np.ascontiguousarray(vs.matrix[order]),
+        matrix=_column_major(vs.matrix, order),
     )
+
+
+def _column_major(matrix: np.ndarray, order: np.ndarray) -> np.ndarray:
+    """``matrix[order]`` as a column-major (Fortran-ordered) float32 array, copied in blocks of
+    rows so a build needs little more than the two matrices."""
+    out = np.empty((len(order), matrix.shape[1]), dtype=np.float32, order="F")
+    for start in range(0, len(order), COPY_ROWS):
+        out[start : start + COPY_ROWS] = matrix[order[start : start + COPY_ROWS]]
+    return out
 
 
 def write(index: Index, path: str | Path) -> None:
@@ -142,7 +158,8 @@ def write(index: Index, path: str | Path) -> None:
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(head)
-            fh.write(np.ascontiguousarray(index.matrix, dtype="<f4").tobytes())
+            # column-major: the transpose of a Fortran-ordered matrix is C-ordered
+            np.asfortranarray(index.matrix, dtype="<f4").T.tofile(fh)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
@@ -171,7 +188,7 @@ def read(path: str | Path) -> Index | None:
         if n == 0:
             matrix = np.zeros((0, bins), dtype=np.float32)
         else:
-            matrix = np.memmap(path, dtype="<f4", mode="r", offset=offset, shape=(n, bins))
+            matrix = np.memmap(path, dtype="<f4", mode="r", offset=offset, shape=(bins, n)).T
         groups = [Group(tuple(g[0]), g[1], g[2], int(g[3]), int(g[4])) for g in header["groups"]]
         return Index(
             key=header["key"],

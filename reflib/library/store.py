@@ -627,6 +627,12 @@ class Store:
     def peaks_of_many(self, spectrum_ids: Iterable[int]) -> dict[int, PeakList]:
         """The stored bands of several spectra, by id, read with two queries (the spectra's
         ``meta`` and ``prep`` columns, not their stored traces, and their band rows)."""
+        return {i: peaks_from_rows(*rec) for i, rec in self.peak_rows_of_many(spectrum_ids).items()}
+
+    def peak_rows_of_many(self, spectrum_ids: Iterable[int]) -> dict[int, tuple[list, dict]]:
+        """What :meth:`peaks_of_many` reads, before it becomes peak lists: by id, the band rows
+        and the spectrum's record, for :func:`peaks_from_rows`. Reading is the part that must
+        happen inside a snapshot; making the lists can wait until one is needed."""
         ids = sorted({int(i) for i in spectrum_ids})
         if not ids:
             return {}
@@ -648,7 +654,7 @@ class Store:
         ).fetchall()
         for sid, group in groupby(found, key=itemgetter(0)):
             rows[sid] = [r[1:] for r in group]
-        return {i: peaks_from_rows(rows[i], recs[i]) for i in ids}
+        return {i: (rows[i], recs[i]) for i in ids}
 
     def full_spectrum(self, spectrum_id: int) -> Spectrum | None:
         rec = self.spectrum_record(spectrum_id)

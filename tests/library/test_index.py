@@ -118,3 +118,48 @@ def test_cached_norms_give_the_same_scores(lib):
         w = comparison_weights(lib.encoding, ["nujol"], g.prep, (None, None), (g.lo, g.hi))
         rows = np.asarray(idx.matrix[g.start : g.stop])
         assert np.allclose(first[g.start : g.stop, 0], weighted_cosine(q[0], rows, w), atol=1e-5)
+
+
+def test_cache_is_column_major_and_an_old_row_major_file_is_rebuilt(lib):
+    path = index_mod.index_path(lib.path)
+    idx = index_mod.load(lib.store)
+    assert idx.matrix.flags["F_CONTIGUOUS"]
+    cached = index_mod.read(path)
+    assert cached.matrix.flags["F_CONTIGUOUS"]
+    # a file of the first layout (magic RFLIDX01, rows one after the other) is not read
+    path.write_bytes(b"RFLIDX01" + path.read_bytes()[8:])
+    assert index_mod.read(path) is None
+    assert index_mod.status(lib.store) == "missing"
+    assert np.array_equal(np.asarray(index_mod.load(lib.store).matrix), np.asarray(idx.matrix))
+
+
+@pytest.mark.parametrize("share", [0.0, 0.05, 0.3, 0.9])
+def test_run_by_run_product_equals_the_full_product(share):
+    from reflib.analysis.search import sparse_matvec
+
+    # the product of linear algebra, no source needed: a zero entry of v adds nothing to refs @ v
+    rng = np.random.default_rng(7)
+    refs = np.asfortranarray(rng.random((3000, 450)).astype(np.float32))
+    v = (rng.random(450) * (rng.random(450) < share)).astype(np.float32)
+    v[100:130] = 0.5 if share else 0.0  # one long run beside scattered entries
+    out = sparse_matvec(refs, v, np.empty(3000, np.float32))
+    assert np.allclose(out, np.ascontiguousarray(refs) @ v, rtol=1e-5, atol=1e-5)
+
+
+def test_one_query_read_run_by_run_scores_like_the_batch(lib):
+    from reflib.analysis.search import score_index
+
+    for k in range(6):  # a group of several rows, so its columns are read run by run
+        pos = np.array([1700.0, 1450.0, 1100.0]) + 7 * k
+        lib.add(
+            PeakList(pos, np.array([1.0, 0.5, 0.3])), name=f"x{k}", prep="film", check_similar=False
+        )
+    idx = index_mod.load(lib.store)
+    assert max(g.stop - g.start for g in idx.groups) > 1
+    q = np.vstack(
+        [encode(PeakList(np.array(p, float), np.array(i, float))) for p, i in BANDS.values()]
+    )
+    batch = score_index(q, idx, lib.encoding, ["film"], (None, None))
+    for j in range(q.shape[0]):
+        one = score_index(q[j], idx, lib.encoding, ["film"], (None, None))[:, 0]
+        assert np.allclose(one, batch[:, j], atol=1e-6)

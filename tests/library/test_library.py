@@ -178,3 +178,29 @@ def test_new_bands_are_labelled_in_the_preparation_given_to_the_search(tmp_path)
     assert hit.new == [1636.0]
     assert "preparation (kbr)" in hit.annotations["1636.0"], hit.annotations
     lib.close()
+
+
+def test_hits_below_the_first_are_explained_when_read_and_alike_either_way(lib):
+    import copy
+    import pickle
+
+    from reflib.library.core import _explain_one
+    from reflib.library.index import Group
+
+    pos, inten = ACETONE
+    # acetone with a nitrile band added: the second hit (benzonitrile) shares the new band
+    q = PeakList(np.array([*pos, 2231.0]), np.array([*inten, 0.8]))
+    res = lib.search(q, top=3)
+    second = res.hits[1]
+    assert "_fill" in second.__dict__ and "matched" not in second.__dict__
+    clone = pickle.loads(pickle.dumps(copy.copy(second)))  # filled on the way (another process)
+    assert "_fill" not in clone.__dict__
+    # the fields read later are those an explanation made now gives
+    ref = lib.store.peaks_of(second.spectrum_id)
+    g = Group(tuple(second.prep), None, None, 0, 1)
+    ex, _, _ = _explain_one(lib.encoding, q, ref, [], g, (None, None), None)
+    assert second.matched == ex.matched == clone.matched
+    assert second.missing == ex.missing and second.new == ex.new
+    assert res.to_dict()["hits"][1]["matched"] == [
+        [round(a, 1), round(b, 1)] for a, b in ex.matched
+    ]
