@@ -299,10 +299,28 @@ BLOCK_ROWS = 1024
 NORM_CACHE_SIZE = 64
 
 
+#: Columns of a column-major matrix squared at a time by :func:`weighted_norms`.
+BLOCK_COLS = 32
+
+
 def weighted_norms(refs: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """sqrt(sum_j w_j r_ij^2) for every row of ``refs``, block by block (float64 result)."""
+    """sqrt(sum_j w_j r_ij^2) for every row of ``refs``, block by block (float64 result).
+
+    A column-major matrix (the index) is read in blocks of columns, skipping those of zero
+    weight; any other in blocks of rows."""
     w32 = np.asarray(w, dtype=np.float32)
     out = np.empty(refs.shape[0], dtype=np.float64)
+    if _by_columns(refs):
+        refs = np.asarray(refs)
+        acc = np.zeros(refs.shape[0], dtype=np.float32)
+        for r0 in range(0, refs.shape[0], 8 * BLOCK_ROWS):
+            rows = refs[r0 : r0 + 8 * BLOCK_ROWS]
+            for a, b in zip(*nonzero_runs(w32)):
+                for c0 in range(int(a), int(b), BLOCK_COLS):
+                    block = rows[:, c0 : min(c0 + BLOCK_COLS, int(b))]
+                    acc[r0 : r0 + rows.shape[0]] += (block * block) @ w32[c0 : c0 + block.shape[1]]
+        np.sqrt(np.maximum(acc, 0.0), out=out)
+        return out
     for start in range(0, refs.shape[0], BLOCK_ROWS):
         block = np.asarray(refs[start : start + BLOCK_ROWS])
         out[start : start + block.shape[0]] = np.sqrt(np.maximum((block * block) @ w32, 0.0))
@@ -408,16 +426,34 @@ _BLAS_LOCK = threading.Lock()
 
 @contextmanager
 def _one_blas_thread():
-    """Run the block under one BLAS thread (threadpoolctl), one thread of ours at a time.
+    """Run the block under one BLAS thread (threadpoolctl) unless a core is idle, one thread
+    of ours at a time.
 
-    Each run of :func:`sparse_matvec` is a small product: a second BLAS thread saves little on
-    an idle machine and, on a busy one, waiting for it costs several times the product (see
-    docs/speed.md). The lock keeps two searches in threads of one process from restoring each
-    other's setting wrongly.
+    Each run of :func:`sparse_matvec` is a small product. On an idle machine a second BLAS
+    thread makes a search's runs about a quarter faster; on a busy one, waiting for it costs
+    several times the product (see docs/speed.md), so the second thread is used only while the
+    load average leaves a core free. The lock keeps two searches in threads of one process
+    from restoring each other's setting wrongly.
     """
+    if _core_free():
+        yield
+        return
     with _BLAS_LOCK:
         with _blas_controller().limit(limits=1, user_api="blas"):
             yield
+
+
+def _core_free() -> bool:
+    """True when the one-minute load average leaves about one core of this machine idle beside
+    the calling thread: below the number of cores less a half (the caller's own work counts
+    in it). False where the load average is not known."""
+    import os
+
+    try:
+        load = os.getloadavg()[0]
+    except (AttributeError, OSError):  # not on every platform
+        return False
+    return load < (os.cpu_count() or 1) - 0.5
 
 
 @lru_cache(maxsize=1)

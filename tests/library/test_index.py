@@ -163,3 +163,16 @@ def test_one_query_read_run_by_run_scores_like_the_batch(lib):
     for j in range(q.shape[0]):
         one = score_index(q[j], idx, lib.encoding, ["film"], (None, None))[:, 0]
         assert np.allclose(one, batch[:, j], atol=1e-6)
+
+
+def test_weighted_norms_read_by_columns_equal_those_read_by_rows():
+    from reflib.analysis.search import weighted_norms
+
+    # sqrt(sum_j w_j r_ij^2) does not depend on the order the matrix is stored in (no source)
+    rng = np.random.default_rng(3)
+    rows = rng.random((9000, 200)).astype(np.float32)
+    w = rng.random(200) * (rng.random(200) < 0.7)  # masked bins weigh 0
+    by_rows = weighted_norms(rows, w)
+    by_cols = weighted_norms(np.asfortranarray(rows), w)
+    assert np.allclose(by_cols, by_rows, rtol=1e-5)
+    assert np.allclose(by_rows, np.sqrt((rows.astype(float) ** 2) @ w), rtol=1e-5)
