@@ -199,28 +199,6 @@ def profile_text(fn, top: int = 10) -> str:
 # --- exact alternatives of score_block, measured against the current one ----------------------
 
 
-def score_block_f32(q, refs, w, out=None, block_rows=256):
-    """Like reflib.analysis.search.score_block, but the post-processing stays in float32 and the
-    weighted
-    norm is an einsum on the block (no squared temporary)."""
-    q = np.atleast_2d(np.asarray(q, dtype=np.float64))
-    w64 = np.asarray(w, dtype=np.float64)
-    wq = (q * w64).astype(np.float32).T.copy()
-    qn = np.sqrt(np.einsum("ij,ij->i", q * w64, q)).astype(np.float32)
-    w32 = w64.astype(np.float32)
-    n = refs.shape[0]
-    scores = np.empty((n, q.shape[0]), dtype=np.float64) if out is None else out
-    for start in range(0, n, block_rows):
-        block = np.asarray(refs[start : start + block_rows])
-        num = block @ wq
-        rn = np.sqrt(np.maximum(np.einsum("ij,ij,j->i", block, block, w32), 0.0))
-        den = rn[:, None] * qn[None, :]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            s = np.where(den > 0, num / np.where(den > 0, den, 1.0), 0.0)
-        scores[start : start + block.shape[0]] = np.clip(s, 0.0, 1.0)
-    return scores
-
-
 class NormCache:
     """Weighted reference norms cached per (row range, weight vector): a query with a weight
     vector seen before costs one matrix-vector product. Exact: the same numbers, computed once."""
@@ -283,24 +261,23 @@ def variants(idx, enc, qvecs, repeat: int) -> list[dict]:
     ref = score_index_with(cur, qvecs[0], idx, enc, prep, rng_)
 
     cache = NormCache()
-    f32 = {}
-    for rows in (128, 256, 1024):
-        f32[rows] = lambda q, r, w, out, g, rows=rows: score_block_f32(q, r, w, out, rows)
+    inv: dict = {}
+
+    def runs(q, r, w, out, g):  # what a search does: cached norms, the query's columns only
+        k = (g.start, w.tobytes())
+        if k not in inv:
+            inv[k] = search_mod.inverse_norms(search_mod.weighted_norms(r, w))
+        search_mod.score_block(q, r, w, out=out, inv_norms=inv[k])
+
+    def full(q, r, w, out, g):  # cached norms, every column read
+        cache.score_block(q, r, w, out, key=(g.start, g.stop))
+
     cands = []
-    for rows in (128, 256, 512, 1024, 4096):
-        cands.append((f"score_block, BLOCK_ROWS={rows}", rows, None, cur))
-    for rows in (256, 1024):
-        cands.append((f"score_block, BLOCK_ROWS={rows}, 1 BLAS thread", rows, 1, cur))
-    for rows in (128, 256, 1024):
-        cands.append((f"float32 post + einsum norm, rows={rows}", original_rows, None, f32[rows]))
-    cands.append(
-        (
-            "cached weighted norms (2nd+ query of a prep)",
-            original_rows,
-            None,
-            lambda q, r, w, out, g: cache.score_block(q, r, w, out, key=(g.start, g.stop)),
-        )
-    )
+    for threads in (None, 1):
+        t = ", 1 BLAS thread" if threads else ""
+        cands.append((f"norms computed each query (1st of a prep){t}", 1024, threads, cur))
+        cands.append((f"norms cached, every column{t}", 1024, threads, full))
+        cands.append((f"norms cached, query's runs (current){t}", 1024, threads, runs))
     out = []
     qs = iter(range(10**9))
     for label, rows, threads, fn in cands:
@@ -824,7 +801,7 @@ def report(rows: list[dict], cli: dict | None, cli_size: int, n_batch: int, prof
     if "variants" in big:
         base = big["score_s"] * 1e3
         floor = big["floor_single_s"] * 1e3
-        print(f"\n== exact score_block variants, {big['n']} references, one query (ms) ==")
+        print(f"\n== exact scoring variants, {big['n']} references, one query (ms) ==")
         print(f"{'variant':<48} {'ms':>8} {'/floor':>7} {'/current':>8} {'same top 20':>11}")
         for v in big["variants"]:
             print(

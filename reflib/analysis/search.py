@@ -352,7 +352,7 @@ def score_block(
     shape = (refs.shape[0], q.shape[0])
     into = out if out is not None and out.dtype == np.float32 else np.empty(shape, np.float32)
     # float32 and in place: for a batch the (refs x queries) block is the big array
-    if q.shape[0] == 1 and _by_columns(refs):
+    if q.shape[0] == 1 and refs.shape[0] >= SPARSE_MIN_ROWS and _by_columns(refs):
         sparse_matvec(refs, wq[:, 0], into[:, 0])
     else:
         np.matmul(np.asarray(refs), wq, out=into)
@@ -368,6 +368,10 @@ def score_block(
         return out
     return into
 
+
+#: Fewer rows than this are read whole: a block that small is read from cache about as fast as
+#: the calls of a run-by-run product cost.
+SPARSE_MIN_ROWS = 1024
 
 #: A single query is multiplied run by run (:func:`sparse_matvec`) when its non-zero bins are
 #: at most this share of all bins; above it one pass over the whole matrix is as fast.

@@ -146,8 +146,11 @@ def test_run_by_run_product_equals_the_full_product(share):
     assert np.allclose(out, np.ascontiguousarray(refs) @ v, rtol=1e-5, atol=1e-5)
 
 
-def test_one_query_read_run_by_run_scores_like_the_batch(lib):
+def test_one_query_read_run_by_run_scores_like_the_batch(lib, monkeypatch):
+    import reflib.analysis.search as search_mod
     from reflib.analysis.search import score_index
+
+    monkeypatch.setattr(search_mod, "SPARSE_MIN_ROWS", 2)  # run by run even for a few rows
 
     for k in range(6):  # a group of several rows, so its columns are read run by run
         pos = np.array([1700.0, 1450.0, 1100.0]) + 7 * k
