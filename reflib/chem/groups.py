@@ -439,14 +439,20 @@ def _strongest_co(peaks: Sequence[Peak], explained: dict[float, str], phase: str
 
 
 def _hidden(lo: float, hi: float, prep: Sequence[str]) -> bool:
-    from reflib.chem import prep as prep_mod
-
     if not prep:
         return False
-    for r in prep_mod.regions_for(prep, air=False):
-        if r.weight <= HIDDEN_WEIGHT and r.lo <= lo and r.hi >= hi:
-            return True
-    return False
+    return any(a <= lo and b >= hi for a, b in _hiding_regions(tuple(prep)))
+
+
+@lru_cache(maxsize=64)
+def _hiding_regions(prep: tuple[str, ...]) -> tuple[tuple[float, float], ...]:
+    """(lo, hi) of the regions the preparation hides (weight at most HIDDEN_WEIGHT); the same
+    for every group of an analysis, so worked out once per preparation."""
+    from reflib.chem import prep as prep_mod
+
+    return tuple(
+        (r.lo, r.hi) for r in prep_mod.regions_for(prep, air=False) if r.weight <= HIDDEN_WEIGHT
+    )
 
 
 def analyse(
