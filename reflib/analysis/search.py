@@ -42,15 +42,20 @@ CAUTION = (
 #: The band-by-band fields of a :class:`Hit` that may be filled on first reading.
 EXPLAINED_FIELDS = ("matched", "missing", "new", "annotations")
 
+#: Hits whose bands a text report prints (``reflib search``); a search explains these at once
+#: and the others when their fields are first read.
+PRINTED_HITS = 3
+
 
 @dataclass
 class Hit:
     """One reference in the hit list.
 
     The band-by-band fields (``matched``, ``missing``, ``new``, ``annotations``) of a hit below
-    the first are worked out when first read (:meth:`later`): a text report prints them for
-    the top hit only, so a search does not pay for the rest unless something reads them (the
-    JSON output and the web page do). The answer is the same either way.
+    the first :data:`PRINTED_HITS` are worked out when first read (:meth:`later`): a text
+    report prints them for the first three only, so a search does not pay for the rest unless
+    something reads them (the JSON output and the web page do). The answer is the same either
+    way.
     """
 
     rank: int

@@ -106,13 +106,14 @@ def peaks(
             typer.echo(f"warning ({q['check']}): {q['message']}")
 
 
-def _print_search(res, explain_top: int = 3) -> None:
-    d = res.to_dict()
-    q = d["query"]
-    lo, hi = q["range_cm1"]
+def _print_search(res, explain_top: int | None = None) -> None:
+    from reflib.analysis.search import PRINTED_HITS
+
+    explain_top = PRINTED_HITS if explain_top is None else explain_top
+    lo, hi = (round(v, 1) for v in res.range_cm1)  # as the JSON gives them
+    prep = ", ".join(res.query_prep) or "none given"
     typer.echo(
-        f"query: {q['file'] or '-'}; preparation: {', '.join(q['prep']) or 'none given'}; "
-        f"compared {lo:.0f}-{hi:.0f} cm-1"
+        f"query: {res.query_file or '-'}; preparation: {prep}; compared {lo:.0f}-{hi:.0f} cm-1"
     )
     for qf in res.quality or []:
         if qf["severity"] != "info":

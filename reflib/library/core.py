@@ -35,6 +35,7 @@ from reflib.analysis.encode import DEFAULT_ENCODING, Encoding, comparable_peaks,
 from reflib.analysis.phase import gas_against_condensed, strict_verdict
 from reflib.analysis.search import (
     DEFAULT_RULE,
+    PRINTED_HITS,
     Hit,
     SearchResult,
     VerdictRule,
@@ -440,7 +441,7 @@ class Library:
                 continue
             hit = Hit(rank, names[cid][0], cid, sid, float(scores[i]), names[cid][1], list(g.prep))
             hits.append(hit)
-            if rank > 1:  # explained when first read (printed in JSON, not in the text report)
+            if rank > PRINTED_HITS:  # explained when first read (the JSON reads them all)
                 explanations.append((None, sid, g))
                 hit.later(_explainer(enc, peaks, stored[sid], tokens, g, qrange, profile, labels))
                 continue
@@ -501,7 +502,7 @@ class Library:
                 )
             only1, only2 = distinguishing_bands(p1, p2, grid, w1)
             distinguishing = {hits[0].name: only1, hits[1].name: only2}
-        labels.annotate(hits[0])
+        labels.annotate(*hits[:PRINTED_HITS])
         return SearchResult(
             query_file=None,
             query_prep=tokens,
@@ -697,25 +698,26 @@ class _Labels:
         self.query, self.tokens = query, tokens
         self._report = self._done = None
 
-    def annotate(self, hit: Hit) -> None:
-        """Label ``hit``'s new bands (into its ``annotations``)."""
-        if not hit.new:
+    def annotate(self, *hits: Hit) -> None:
+        """Label the new bands of ``hits`` (into their ``annotations``), in one look-up."""
+        if not any(h.new for h in hits):
             return  # nothing to label: skip the table look-ups
         from reflib.chem.groups import analyse, band_texts
 
         if self._done is None:
             self._report = analyse(self.query, prep=self.tokens) if self.tokens else None
             self._done = {}
-        todo = [p for p in hit.new if p not in self._done]
+        todo = {p for h in hits for p in h.new if p not in self._done}
         if todo:
-            texts = band_texts(self.query, self._report, only=set(todo))
+            texts = band_texts(self.query, self._report, only=todo)
             self._done.update(
                 (p, t) for p, t in zip(self.query.positions.tolist(), texts) if p in todo
             )
-        for pos in hit.new:
-            text = self._done.get(pos)
-            if text:
-                hit.annotations[f"{pos:.1f}"] = text
+        for h in hits:
+            for pos in h.new:
+                text = self._done.get(pos)
+                if text:
+                    h.annotations[f"{pos:.1f}"] = text
 
 
 def _holes(peaks: PeakList) -> tuple[tuple[float, float], ...]:
