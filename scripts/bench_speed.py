@@ -724,7 +724,7 @@ def report(rows: list[dict], cli: dict | None, cli_size: int, n_batch: int, prof
     print(
         f"(search/floor: the whole lib.search, scoring and the explanation of the top 5, within "
         f"{TARGET_SEARCH_VS_FLOOR}x the floor from {TARGET_SEARCH_FROM} references on; the hits "
-        "below the first are explained when read, as a text report reads only the first)"
+        "below the third are explained when read: a text report prints the first three)"
     )
     print(
         "(with every hit explained, as the JSON output reads them: "
