@@ -134,7 +134,9 @@ _ABBREVIATIONS = {s for s in _SYMBOLS if len(s) >= 2 and not s[1:].islower()} | 
     "Ph", "Ar", "Me", "Et", "Pr", "Bu", "Ac", "Bz", "Bn", "Ts", "Ms", "Ns", "Tf",
 }  # fmt: skip
 _SYMBOL = re.compile("|".join(_SYMBOLS))
-_FORMULA = re.compile(rf"(?:{_SYMBOL.pattern}|\d+|[-=≡#()\[\]+·'])+")
+_FORMULA = re.compile(
+    rf"(?:{_SYMBOL.pattern}|\d|[-=≡#()\[\]+·'])+"
+)  # \d, not \d+: no nested repeat
 _BOND_CHARS = set("-=≡#")
 _GREEK_PREFIX = re.compile(r"[νδγρωτβv](?:as|sym|asym|s)?(?=[A-Z(\[])")
 _CHUNK = re.compile(r"[^\s/]+")

@@ -644,3 +644,12 @@ def test_plain_form_takes_the_lists_reflib_writes():
     assert peaktext._plain_peaks(pl.to_text(), None) is not None
     _same_lists(parse_peak_text(pl.to_text()), _tokenized(pl.to_text(), None)[0])
     assert pl.meta.extra["ir_segment_at"] == f"line 1, columns 1-{len(text.rstrip())}"
+
+
+def test_long_digit_run_in_a_parenthesis_is_refused_at_once():
+    # found by scripts/fuzz_readers.py --seed 13: the formula pattern held a repeated \d+ inside
+    # a repeat, so a run of n digits before a letter took about 2**n steps to refuse (18
+    # digits: 0.07 s; 400: never). The word is refused like any other unknown word.
+    text = "IR (KBr): 3350 (br," + "9" * 400 + "m), 2950 (m) cm-1"
+    with pytest.raises(ReadError, match="unknown word"):
+        parse_peak_texts(text, source="x")
