@@ -43,6 +43,7 @@ The machine is shared: the load average is printed at the start and the end; rea
 from __future__ import annotations
 
 import argparse
+import contextlib
 import cProfile
 import io
 import json
@@ -206,7 +207,7 @@ class NormCache:
     def __init__(self):
         self.norms: dict[tuple, np.ndarray] = {}
 
-    def score_block(self, q, refs, w, out=None, block_rows=1024, key=None):
+    def score_block(self, q, refs, w, out=None, key=None):
         import reflib.analysis.search as search_mod
 
         q = np.atleast_2d(np.asarray(q, dtype=np.float64))
@@ -214,11 +215,7 @@ class NormCache:
         k = (key, w64.tobytes())
         rn = self.norms.get(k)
         if rn is None:
-            w32 = w64.astype(np.float32)
-            rn = np.empty(refs.shape[0], dtype=np.float32)
-            for start in range(0, refs.shape[0], search_mod.BLOCK_ROWS):
-                block = np.asarray(refs[start : start + search_mod.BLOCK_ROWS])
-                rn[start : start + block.shape[0]] = np.sqrt(np.maximum((block * block) @ w32, 0.0))
+            rn = search_mod.weighted_norms(refs, w64).astype(np.float32)
             self.norms[k] = rn
         wq = (q * w64).astype(np.float32).T.copy()
         qn = np.sqrt(np.einsum("ij,ij->i", q * w64, q))
@@ -251,7 +248,6 @@ def variants(idx, enc, qvecs, repeat: int) -> list[dict]:
 
     prep = ["film"]
     rng_ = (None, None)
-    original_rows = search_mod.BLOCK_ROWS
 
     def cur(q, r, w, out, g):
         search_mod.score_block(q, r, w, out=out)
@@ -275,24 +271,20 @@ def variants(idx, enc, qvecs, repeat: int) -> list[dict]:
     cands = []
     for threads in (None, 1):
         t = ", 1 BLAS thread" if threads else ""
-        cands.append((f"norms computed each query (1st of a prep){t}", 1024, threads, cur))
-        cands.append((f"norms cached, every column{t}", 1024, threads, full))
-        cands.append((f"norms cached, query's runs (current){t}", 1024, threads, runs))
+        cands.append((f"norms computed each query (1st of a prep){t}", threads, cur))
+        cands.append((f"norms cached, every column{t}", threads, full))
+        cands.append((f"norms cached, query's runs (current){t}", threads, runs))
     out = []
     qs = iter(range(10**9))
-    for label, rows, threads, fn in cands:
-        search_mod.BLOCK_ROWS = rows
-        try:
-            with threadpoolctl.threadpool_limits(threads) if threads else _null():
+    for label, threads, fn in cands:
+        with threadpoolctl.threadpool_limits(threads) if threads else contextlib.nullcontext():
 
-                def one(fn=fn):
-                    i = next(qs) % len(qvecs)
-                    return score_index_with(fn, qvecs[i], idx, enc, prep, rng_)
+            def one(fn=fn):
+                i = next(qs) % len(qvecs)
+                return score_index_with(fn, qvecs[i], idx, enc, prep, rng_)
 
-                t = median_time(one, repeat)
-                s = score_index_with(fn, qvecs[0], idx, enc, prep, rng_)
-        finally:
-            search_mod.BLOCK_ROWS = original_rows
+            t = median_time(one, repeat)
+            s = score_index_with(fn, qvecs[0], idx, enc, prep, rng_)
         top_ref = np.argsort(-ref[:, 0], kind="stable")[:20]
         top_new = np.argsort(-s[:, 0], kind="stable")[:20]
         out.append(
@@ -304,14 +296,6 @@ def variants(idx, enc, qvecs, repeat: int) -> list[dict]:
             }
         )
     return out
-
-
-class _null:
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *a):
-        return False
 
 
 # --- the measuring subprocess ----------------------------------------------------------------

@@ -318,11 +318,12 @@ def weighted_norms(refs: np.ndarray, w: np.ndarray) -> np.ndarray:
     if _by_columns(refs):
         refs = np.asarray(refs)
         acc = np.zeros(refs.shape[0], dtype=np.float32)
+        runs = list(zip(*(r.tolist() for r in nonzero_runs(w32))))
         for r0 in range(0, refs.shape[0], 8 * BLOCK_ROWS):
             rows = refs[r0 : r0 + 8 * BLOCK_ROWS]
-            for a, b in zip(*nonzero_runs(w32)):
-                for c0 in range(int(a), int(b), BLOCK_COLS):
-                    block = rows[:, c0 : min(c0 + BLOCK_COLS, int(b))]
+            for a, b in runs:
+                for c0 in range(a, b, BLOCK_COLS):
+                    block = rows[:, c0 : min(c0 + BLOCK_COLS, b)]
                     acc[r0 : r0 + rows.shape[0]] += (block * block) @ w32[c0 : c0 + block.shape[1]]
         np.sqrt(np.maximum(acc, 0.0), out=out)
         return out
@@ -402,11 +403,15 @@ def nonzero_runs(v: np.ndarray, gap: int = 0) -> tuple[np.ndarray, np.ndarray]:
     >>> [a.tolist() for a in nonzero_runs(np.array([0, 1, 2, 0, 0, 3, 0, 4]), gap=1)]
     [[1, 5], [3, 8]]
     """
-    nz = np.flatnonzero(v)
-    if nz.size == 0:
-        return nz, nz
-    breaks = np.flatnonzero(np.diff(nz) > 1 + gap)
-    return np.r_[nz[0], nz[breaks + 1]], np.r_[nz[breaks] + 1, nz[-1] + 1]
+    from reflib.signal.peaks import true_runs
+
+    runs = true_runs(np.asarray(v) != 0)
+    if runs.size == 0:
+        return runs[:, 0], runs[:, 1]
+    keep = np.r_[True, runs[1:, 0] - runs[:-1, 1] > gap]  # a run that starts a joined one
+    starts = runs[keep, 0]
+    stops = runs[np.r_[keep[1:], True], 1]
+    return starts, stops
 
 
 def sparse_matvec(refs: np.ndarray, v: np.ndarray, out: np.ndarray) -> np.ndarray:
@@ -423,7 +428,7 @@ def sparse_matvec(refs: np.ndarray, v: np.ndarray, out: np.ndarray) -> np.ndarra
     refs = np.asarray(refs)  # a plain view: slicing a memory map costs more per slice
     out[...] = 0.0
     part = np.empty_like(out)
-    with _one_blas_thread():
+    with _blas_threads_for_runs():
         for a, b in zip(starts.tolist(), stops.tolist()):
             np.matmul(refs[:, a:b], v[a:b], out=part)
             out += part
@@ -434,9 +439,9 @@ _BLAS_LOCK = threading.Lock()
 
 
 @contextmanager
-def _one_blas_thread():
-    """Run the block under one BLAS thread (threadpoolctl) unless a core is idle, one thread
-    of ours at a time.
+def _blas_threads_for_runs():
+    """Run the block under one BLAS thread (threadpoolctl) unless a core is idle; while
+    limited, one thread of ours at a time.
 
     Each run of :func:`sparse_matvec` is a small product. On an idle machine a second BLAS
     thread makes a search's runs about a quarter faster; on a busy one, waiting for it costs

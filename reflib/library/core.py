@@ -429,7 +429,7 @@ class Library:
         explanations = []
         names = self._names([int(idx.compound_ids[i]) for i in picks])
         # the top hits' rows are read now, inside the search's snapshot; the peak lists of
-        # hits below the first are made only when their explanation is read
+        # hits below the printed ones are made only when their explanation is read
         stored = self.store.peak_rows_of_many(int(idx.spectrum_ids[i]) for i in picks[:top])
         for rank, i in enumerate(picks, start=1):
             sid = int(idx.spectrum_ids[i])
@@ -665,10 +665,10 @@ def _group_lookup(idx):
     return group_of
 
 
-def _explain_one(enc, peaks, stored, tokens, g, qrange, profile):
-    """The band-by-band explanation of one hit (its reference's bands ``stored``, comparison
+def _explain_one(enc, peaks, ref, tokens, g, qrange, profile):
+    """The band-by-band explanation of one hit (its reference's stored bands ``ref``, comparison
     group ``g``): (Explanation, the reference's comparable bands, the comparison weights)."""
-    ref_peaks = comparable_peaks(stored, g.prep, enc)
+    ref_peaks = comparable_peaks(ref, g.prep, enc)
     w = comparison_weights(enc, tokens, g.prep, qrange, (g.lo, g.hi), profile, _holes(peaks))
     qp, rp, w, tol = explain_args(peaks, ref_peaks, tokens, g.prep, enc.grid(), w)
     atr = atr_side(tokens, g.prep) is not None

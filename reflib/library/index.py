@@ -30,10 +30,10 @@ import numpy as np
 from reflib.library.store import Store, VectorSet
 
 MAGIC = b"RFLIDX02"
+SUFFIX = ".reflib-index"
 
 #: Rows copied at a time into the column-major matrix (bounds the extra memory of a build).
 COPY_ROWS = 4096
-SUFFIX = ".reflib-index"
 
 
 @dataclass

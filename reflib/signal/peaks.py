@@ -357,8 +357,12 @@ def baseline(
     return b
 
 
-def _runs(mask: np.ndarray) -> np.ndarray:
-    """Start and stop (exclusive) indices of the runs of True in ``mask``, shape (k, 2)."""
+def true_runs(mask: np.ndarray) -> np.ndarray:
+    """Start and stop (exclusive) indices of the runs of True in ``mask``, shape (k, 2).
+
+    >>> true_runs(np.array([0, 1, 1, 0, 1], bool)).tolist()
+    [[1, 3], [4, 5]]
+    """
     padded = np.concatenate(([False], mask, [False])).astype(np.int8)
     edges = np.flatnonzero(np.diff(padded))
     return edges.reshape(-1, 2)
@@ -368,7 +372,7 @@ def _close_gaps(mask: np.ndarray, gap_points: int) -> np.ndarray:
     """``mask`` with interior runs of at most ``gap_points`` False values set True."""
     mask = np.asarray(mask, dtype=bool).copy()
     if gap_points > 0 and mask.any():
-        gaps = _runs(~mask)
+        gaps = true_runs(~mask)
         inner = (gaps[:, 0] > 0) & (gaps[:, 1] < mask.size)
         gaps = gaps[inner & (gaps[:, 1] - gaps[:, 0] <= gap_points)]
         delta = np.zeros(mask.size + 1, dtype=np.int64)
@@ -407,7 +411,7 @@ def saturated_runs(
             mask[:] = False  # mostly above the level: scaled units, not decadic absorbance
         top = float(np.max(a))
         mask |= a >= top - 1e-9 * max(abs(top), 1e-300)
-    runs = _runs(_close_gaps(mask, gap_points))
+    runs = true_runs(_close_gaps(mask, gap_points))
     if runs.size:
         runs = runs[(runs[:, 1] - runs[:, 0]) >= min_points]
     return runs
@@ -438,7 +442,7 @@ def flat_tops(
     corrected = np.asarray(corrected, dtype=float)
     if a.size < 3 or not tolerance > 0:
         return np.zeros((0, 2), dtype=int)
-    runs = _runs(_close_gaps(a >= float(np.max(a)) - tolerance, gap_points))
+    runs = true_runs(_close_gaps(a >= float(np.max(a)) - tolerance, gap_points))
     runs = runs[(runs[:, 1] - runs[:, 0]) >= min_points]
     out = []
     for start, stop in runs:  # one step per plateau
@@ -579,7 +583,7 @@ def pick_peaks(
     band_runs = runs[~opaque]
 
     corrected = np.zeros_like(a)
-    for lo_i, hi_i in _runs(~cut):
+    for lo_i, hi_i in true_runs(~cut):
         if hi_i - lo_i >= 5:
             edges = (lo_i > 0, hi_i < x.size)
 
@@ -625,7 +629,7 @@ def pick_peaks(
     # cut's zeros in there), so that edge is not measured either: the reported holes include
     # it, and the comparison does not score a reference band there as absent.
     near_cut = _dilate(cut, margin + 1)
-    holes = [tuple(r) for r in _runs(near_cut)] if holes else []
+    holes = [tuple(r) for r in true_runs(near_cut)] if holes else []
     ys[cut] = 0.0
 
     distance = max(1, int(round(min_separation_cm1 / step)))
@@ -868,7 +872,7 @@ def floor_runs(t: np.ndarray, *, floor_t: float = FLOOR_T, span_t: float = FLOOR
     low = float(np.min(t))
     if low > floor_t:
         return np.zeros((0, 2), dtype=int)
-    runs = _runs(_close_gaps(t <= low + span_t, 2))
+    runs = true_runs(_close_gaps(t <= low + span_t, 2))
     return runs[(runs[:, 1] - runs[:, 0]) >= 3]
 
 
@@ -978,7 +982,7 @@ def _cut_holes(a: np.ndarray, runs: np.ndarray, step: float):
         ):
             j += 1
         cut[i:j] = True
-    return cut, [tuple(r) for r in _runs(cut)]
+    return cut, [tuple(r) for r in true_runs(cut)]
 
 
 def _fwhm(
