@@ -13,9 +13,11 @@ that needs one weight vector and one matrix product; the ranking is exact.
 from __future__ import annotations
 
 import threading
+from bisect import bisect_left, bisect_right
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from functools import lru_cache
+from operator import le
 from typing import Any
 
 import numpy as np
@@ -403,14 +405,14 @@ def nonzero_runs(v: np.ndarray, gap: int = 0) -> tuple[np.ndarray, np.ndarray]:
     >>> [a.tolist() for a in nonzero_runs(np.array([0, 1, 2, 0, 0, 3, 0, 4]), gap=1)]
     [[1, 5], [3, 8]]
     """
-    from reflib.signal.peaks import true_runs
+    from reflib.signal.peaks import true_runs  # not at import: it takes ms to load
 
     runs = true_runs(np.asarray(v) != 0)
     if runs.size == 0:
         return runs[:, 0], runs[:, 1]
-    keep = np.r_[True, runs[1:, 0] - runs[:-1, 1] > gap]  # a run that starts a joined one
-    starts = runs[keep, 0]
-    stops = runs[np.r_[keep[1:], True], 1]
+    apart = np.flatnonzero(runs[1:, 0] - runs[:-1, 1] > gap)  # run k and k+1 stay apart
+    starts = np.concatenate((runs[:1, 0], runs[apart + 1, 0]))
+    stops = np.concatenate((runs[apart, 1], runs[-1:, 1]))
     return starts, stops
 
 
@@ -467,7 +469,15 @@ def _core_free() -> bool:
         load = os.getloadavg()[0]
     except (AttributeError, OSError):  # not on every platform
         return False
-    return load < (os.cpu_count() or 1) - 0.5
+    return load < _cores() - 0.5
+
+
+@lru_cache(maxsize=1)
+def _cores() -> int:
+    """This machine's number of cores (asked once: the call reads a file on Linux)."""
+    import os
+
+    return os.cpu_count() or 1
 
 
 @lru_cache(maxsize=1)
@@ -587,8 +597,18 @@ def pair_positions(
     total distance as solving them all at once. Where every pair has the same reach (no broad
     band widens it), a best pairing never crosses (if a1 < a2 and b1 < b2, pairing a1-b1 and
     a2-b2 keeps both in reach and costs no more than a1-b2 and a2-b1), so a cluster is solved
-    by a walk along both sorted lists; otherwise by the assignment solver.
+    by a walk along both sorted lists; otherwise by the assignment solver. When no band on
+    either side is broad and both are sorted (the usual case), all of this is done on plain
+    lists by :func:`_pair_sorted`, with the same result.
     """
+    ql, rl = qp.tolist(), rp.tolist()
+    if (
+        qhalf.max(initial=0.0) <= tolerance
+        and rhalf.max(initial=0.0) <= tolerance
+        and all(map(le, ql, ql[1:]))
+        and all(map(le, rl, rl[1:]))
+    ):
+        return _pair_sorted(ql, rl, float(tolerance))
     d = np.abs(qp[:, None] - rp[None, :])
     tol = np.maximum(tolerance, np.maximum(qhalf[:, None], rhalf[None, :]))
     ok = d <= tol
@@ -622,6 +642,74 @@ def pair_positions(
     return q_all[order], r_all[order]
 
 
+def _pair_sorted(qp: list, rp: list, tolerance: float) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`pair_positions` where both sides are sorted and every pair has the same reach
+    ``tolerance``, on plain lists: each query band then reaches one run of reference bands,
+    found by bisection, so no (query x reference) array is made. The same pairs as the
+    general path: bands with a single partner first, then each cluster of the rest by
+    :func:`_solve_on_line`."""
+    n, m = len(qp), len(rp)
+    first, stop = [], []
+    for q in qp:
+        a = bisect_left(rp, q - tolerance)
+        while a > 0 and abs(q - rp[a - 1]) <= tolerance:
+            a -= 1
+        while a < m and abs(q - rp[a]) > tolerance and rp[a] < q:
+            a += 1
+        b = bisect_right(rp, q + tolerance, a)
+        while b < m and abs(q - rp[b]) <= tolerance:
+            b += 1
+        while b > a and abs(q - rp[b - 1]) > tolerance:
+            b -= 1
+        first.append(a)
+        stop.append(b)
+    col_deg = [0] * (m + 1)
+    for a, b in zip(first, stop):
+        if b > a:
+            col_deg[a] += 1
+            col_deg[b] -= 1
+    running = 0
+    for j in range(m):
+        running += col_deg[j]
+        col_deg[j] = running
+    pairs: dict[int, int] = {}
+    taken = [False] * m
+    for i in range(n):
+        a = first[i]
+        if stop[i] - a == 1 and col_deg[a] == 1:
+            pairs[i] = a
+            taken[a] = True
+    rest_q = [i for i in range(n) if stop[i] > first[i] and i not in pairs]
+    if rest_q:
+        rest_r = [j for j in range(m) if col_deg[j] > 0 and not taken[j]]
+        # each rest row reaches one run of the rest columns: [lo_k, hi_k] in their numbering
+        lo = [bisect_left(rest_r, first[i]) for i in rest_q]
+        hi = [bisect_left(rest_r, stop[i]) - 1 for i in rest_q]
+        k0 = 0
+        for k1 in range(1, len(rest_q) + 1):
+            if k1 < len(rest_q) and lo[k1] <= hi[k1 - 1]:
+                continue
+            c0, c1 = lo[k0], hi[k1 - 1] + 1
+            rows_q, cols_r = rest_q[k0:k1], rest_r[c0:c1]
+            if len(rows_q) == 1:  # one row: its nearest column in reach
+                q = qp[rows_q[0]]
+                pairs[rows_q[0]] = min(cols_r, key=lambda j: abs(q - rp[j]))
+            elif len(cols_r) == 1:  # one column: its nearest row
+                r = rp[cols_r[0]]
+                pairs[min(rows_q, key=lambda i: abs(qp[i] - r))] = cols_r[0]
+            else:
+                dl = [[abs(qp[i] - rp[j]) for j in cols_r] for i in rows_q]
+                okl = [[x <= tolerance for x in row] for row in dl]
+                rows: list[int] = []
+                cols: list[int] = []
+                _solve_on_line(okl, dl, 0, len(rows_q), 0, len(cols_r), rows, cols)
+                for a, b in zip(rows, cols):
+                    pairs[rows_q[a]] = cols_r[b]
+            k0 = k1
+    order = sorted(pairs)
+    return np.array(order, dtype=np.intp), np.array([pairs[i] for i in order], dtype=np.intp)
+
+
 def _pair_on_line(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Best pairing when every pair has the same reach, rows and columns sorted by position
     and each with a partner in reach: row i then reaches one run of columns [a_i, b_i], and
@@ -651,21 +739,33 @@ def _pair_on_line(ok: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray
 
 def _clusters(ok: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
     """Connected parts of the bipartite graph ``ok`` (rows x columns, every row and column with
-    at least one edge): (row indices, column indices) of each.
+    at least one edge): (row indices, column indices) of each, ordered by their first row.
 
-    Each row starts with its own label; rows and columns take the lowest label in reach until
-    nothing changes (as many rounds as the widest part is long).
+    Union-find over the edges, each part labelled by its lowest node (a row: rows are
+    numbered before columns, and every part holds one).
     """
     n_rows, n_cols = ok.shape
-    big = n_rows + 1
-    row = np.arange(n_rows)
-    while True:
-        col = np.where(ok, row[:, None], big).min(0)
-        new = np.minimum(row, np.where(ok, col[None, :], big).min(1))
-        if (new == row).all():
-            break
-        row = new
-    return [(np.flatnonzero(row == k), np.flatnonzero(col == k)) for k in np.unique(row)]
+    parent = list(range(n_rows + n_cols))
+
+    def root(x: int) -> int:
+        while parent[x] != x:
+            parent[x] = parent[parent[x]]
+            x = parent[x]
+        return x
+
+    rows_e, cols_e = np.nonzero(ok)
+    for i, j in zip(rows_e.tolist(), (cols_e + n_rows).tolist()):
+        a, b = root(i), root(j)
+        if a != b:
+            parent[max(a, b)] = min(a, b)
+    parts: dict[int, tuple[list[int], list[int]]] = {}
+    for x in range(n_rows + n_cols):
+        rows, cols = parts.setdefault(root(x), ([], []))
+        (rows if x < n_rows else cols).append(x if x < n_rows else x - n_rows)
+    return [
+        (np.array(rows, dtype=np.intp), np.array(cols, dtype=np.intp))
+        for _, (rows, cols) in sorted(parts.items())
+    ]
 
 
 def _solve_on_line(

@@ -301,11 +301,64 @@ def candidates(
     if broad is None and width is not None and math.isfinite(width):
         broad = width > BROAD_WIDTH_CM1
     wanted = None if groups is None else set(groups)
-    prep_set = set(prep)
     seen = None if support is None else _tokens_seen(tuple(map(float, support)), phase)
+    return _ranked(position_cm1, strength, broad, top, phase, set(prep), wanted, seen, min_score)
+
+
+def candidates_for(
+    bands: Iterable[tuple[float, str | None, bool | None, float | None]],
+    *,
+    top: int = 3,
+    phase: str = "condensed",
+    prep: Sequence[str] = (),
+    groups: Iterable[str] | None = None,
+    support: Sequence[float] | None = None,
+    min_score: float = 0.1,
+) -> list[list[Assignment]]:
+    """:func:`candidates` of several bands of one spectrum, sharing the work that does not
+    depend on the band (the groups allowed, the other bands' support): one list per
+    ``(position_cm1, strength, broad, width)`` of ``bands``, in order, each the same as
+    :func:`candidates` with those arguments and the keywords given here.
+
+    >>> [[a.label for a in c] for c in candidates_for([(1715.0, "vs", False, None)], top=1)]
+    [['ketone C=O stretch']]
+    """
+    if top < 1:
+        raise ValidationError(f"top must be at least 1, got {top}")
+    _check_phase(phase)
+    wanted = None if groups is None else set(groups)
+    seen = None if support is None else _tokens_seen(tuple(map(float, support)), phase)
+    prep_set = set(prep)
+    out = []
+    for position, strength, broad, width in bands:
+        if not (math.isfinite(position) and position > 0):
+            raise ValidationError(f"band position must be a positive cm-1 value, got {position!r}")
+        if strength is not None and strength not in _OBSERVED_LEVEL:
+            raise ValidationError(
+                f"unknown strength word {strength!r}; expected one of {', '.join(_OBSERVED_LEVEL)}"
+            )
+        if broad is None and width is not None and math.isfinite(width):
+            broad = width > BROAD_WIDTH_CM1
+        ranked = _ranked(position, strength, broad, top, phase, prep_set, wanted, seen, min_score)
+        out.append(ranked)
+    return out
+
+
+def _ranked(
+    position_cm1: float,
+    strength: str | None,
+    broad: bool | None,
+    top: int,
+    phase: str,
+    prep_set: set[str],
+    wanted: set[str] | None,
+    seen: frozenset[tuple[str, str]] | None,
+    min_score: float,
+) -> list[Assignment]:
+    """The ranking of :func:`candidates`, its arguments checked and prepared."""
     best: dict[str, tuple] = {}  # label: (score, row, lo, hi); Assignments made for the top
     for row, lo, hi in _rows_near(position_cm1, phase, min_score):
-        if wanted is not None and (row.kind == "artefact" or not wanted.intersection(row.groups)):
+        if wanted is not None and (row.kind == "artefact" or wanted.isdisjoint(row.groups)):
             continue
         score = _position_score(position_cm1, lo, hi)
         if score < min_score:

@@ -94,11 +94,22 @@ class Rule:
     shape: str
     source: str
 
+    def __post_init__(self) -> None:
+        # worked out once: every analysis reads them for every rule
+        windows = {phase: self._window(phase) for phase in bands.PHASES}
+        top = OVERTONE_MAX_STRENGTH if "overtone" in self.role else "vs"
+        object.__setattr__(self, "_windows", windows)
+        object.__setattr__(self, "_levels", (_LEVEL[self.min_strength], _LEVEL[top]))
+
     def in_phase(self, phase: str) -> bool:
         return self.phase in ("any", phase)
 
     def window(self, phase: str) -> tuple[float, float]:
         """Where the band is looked for in ``phase``, cm-1."""
+        found = self._windows.get(phase)
+        return found if found is not None else self._window(phase)
+
+    def _window(self, phase: str) -> tuple[float, float]:
         if phase == "gas":
             shift = self.gas_shift_cm1
             tol = bands.GAS_BRANCH_CM1
@@ -573,14 +584,16 @@ OVERTONE_MAX_STRENGTH = "vw"
 
 
 def _seen(rule: Rule, usable: _Bands, phase: str) -> _Band | None:
+    """The strongest band in the rule's window with the rule's strength and shape (the first
+    of equals), or None."""
     lo, hi = rule.window(phase)
-    top = _LEVEL[OVERTONE_MAX_STRENGTH] if "overtone" in rule.role else _LEVEL["vs"]
-    found = [
-        b
-        for b in usable.between(lo, hi)
-        if _LEVEL[rule.min_strength] <= b.level <= top and _shape_ok(b, rule.shape, phase)
-    ]
-    return max(found, key=lambda b: b.intensity) if found else None
+    low, top = rule._levels  # an overtone is weak: at most OVERTONE_MAX_STRENGTH
+    best = None
+    for b in usable.between(lo, hi):
+        if low <= b.level <= top and _shape_ok(b, rule.shape, phase):
+            if best is None or b.intensity > best.intensity:
+                best = b
+    return best
 
 
 def _clean(
@@ -934,6 +947,7 @@ def band_labels(
     # a C=O stretch is one of a carbonyl compound's strongest bands: an overtone does not show it
     co_positions = peaks.positions[peaks.intensities >= CO_SEEN_AT_LEAST]
     out: list[list[str]] = []
+    fallback_bands: list[tuple[int, Peak]] = []  # read from the correlation table, below
     for p in peaks:
         if wanted is not None and p.position not in wanted:
             out.append([])
@@ -952,18 +966,26 @@ def band_labels(
         if found:
             out.append(minor_co(p, found[:top]))
             continue
+        fallback_bands.append((len(out), p))
+        out.append([])
+    ranked = bands.candidates_for(
+        (
+            (
+                p.position,
+                p.strength,
+                True if p.broad else None,
+                p.width if math.isfinite(p.width) else None,
+            )
+            for _, p in fallback_bands
+        ),
+        top=top,
+        phase=report.phase,
+        groups=fallback,
+        support=support,
+    )
+    for (k, p), cands in zip(fallback_bands, ranked):
         # an overtone or combination band is weak by nature (OVERTONE_MAX_STRENGTH)
         weak_enough_for_overtone = _LEVEL[p.strength] <= _LEVEL[OVERTONE_MAX_STRENGTH]
-        cands = bands.candidates(
-            p.position,
-            strength=p.strength,
-            broad=True if p.broad else None,
-            width=p.width if math.isfinite(p.width) else None,
-            top=top,
-            phase=report.phase,
-            groups=fallback,
-            support=support,
-        )
         cands = [
             a
             for a in cands
@@ -972,7 +994,7 @@ def band_labels(
             and (weak_enough_for_overtone or "overtone" not in a.label)
         ]
         best = cands[0].score if cands else 0.0
-        out.append(minor_co(p, [f"{a.short}?" for a in cands if a.score >= 0.5 * best]))
+        out[k] = minor_co(p, [f"{a.short}?" for a in cands if a.score >= 0.5 * best])
     return out
 
 

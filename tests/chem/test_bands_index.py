@@ -62,3 +62,37 @@ def test_describe_all_only_labels_the_bands_asked_for():
     some = bands.describe_all(peaks, only=[1745.0, 3350.0])
     assert some == ["", full[1], "", full[3]]
     assert full[1] and full[3]
+
+
+@pytest.mark.parametrize("phase", ["condensed", "gas"])
+def test_candidates_for_is_candidates_band_by_band(phase):
+    """Common practice, no source: the batch form shares only the work that does not depend on
+    the band, so it must give what :func:`candidates` gives for each band."""
+    rng = np.random.default_rng(9)
+    xs = rng.uniform(400, 4000, 120)
+    words = [None, "vs", "s", "m", "w", "vw"]
+    widths = [None, 8.0, 60.0, float("nan")]
+    args = [
+        (float(x), words[i % 6], (None, True, False)[i % 3], widths[i % 4])
+        for i, x in enumerate(xs)
+    ]
+    support = [float(x) for x in xs[:30]]
+    groups = {r.group for r in bands.table()[::3] if r.group}
+    for kw in ({}, {"groups": groups, "support": support}, {"prep": ["nujol"], "top": 1}):
+        one = [
+            [
+                a.to_dict()
+                for a in bands.candidates(x, strength=s, broad=b, width=w, phase=phase, **kw)
+            ]
+            for x, s, b, w in args
+        ]
+        many = [[a.to_dict() for a in c] for c in bands.candidates_for(args, phase=phase, **kw)]
+        assert many == one
+        assert any(one)  # the check compares real candidate lists, not empty ones
+
+
+def test_candidates_for_checks_its_bands():
+    with pytest.raises(bands.ValidationError, match="positive cm-1"):
+        bands.candidates_for([(1700.0, "s", None, None), (-5.0, "s", None, None)])
+    with pytest.raises(bands.ValidationError, match="strength word"):
+        bands.candidates_for([(1700.0, "strong", None, None)])
