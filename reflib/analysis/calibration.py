@@ -733,10 +733,9 @@ def top_distinct(scores: np.ndarray, compound_ids: np.ndarray, k: int) -> np.nda
         cand = cand[np.argsort(-s[cand], kind="stable")]
         out: list[int] = []
         seen: set[int] = set()
-        for i in cand.tolist():
-            if not np.isfinite(s[i]):
+        for i, v, c in zip(cand.tolist(), s[cand].tolist(), compound_ids[cand].tolist()):
+            if not math.isfinite(v):
                 return np.array(out, dtype=np.int64)  # the rest are filtered out too
-            c = int(compound_ids[i])
             if c not in seen:
                 seen.add(c)
                 out.append(i)

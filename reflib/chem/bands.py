@@ -329,18 +329,22 @@ def candidates_for(
     wanted = None if groups is None else set(groups)
     seen = None if support is None else _tokens_seen(tuple(map(float, support)), phase)
     prep_set = set(prep)
-    out = []
-    for position, strength, broad, width in bands:
+    bands = list(bands)
+    for position, strength, _, _ in bands:
         if not (math.isfinite(position) and position > 0):
             raise ValidationError(f"band position must be a positive cm-1 value, got {position!r}")
         if strength is not None and strength not in _OBSERVED_LEVEL:
             raise ValidationError(
                 f"unknown strength word {strength!r}; expected one of {', '.join(_OBSERVED_LEVEL)}"
             )
+    near = _rows_near_many([b[0] for b in bands], phase, min_score, wanted)
+    out = []
+    for (position, strength, broad, width), rows in zip(bands, near):
         if broad is None and width is not None and math.isfinite(width):
             broad = width > BROAD_WIDTH_CM1
-        ranked = _ranked(position, strength, broad, top, phase, prep_set, wanted, seen, min_score)
-        out.append(ranked)
+        out.append(
+            _ranked(position, strength, broad, top, phase, prep_set, wanted, seen, min_score, rows)
+        )
     return out
 
 
@@ -354,10 +358,14 @@ def _ranked(
     wanted: set[str] | None,
     seen: frozenset[tuple[str, str]] | None,
     min_score: float,
+    near: list[tuple[GroupFrequency, float, float]] | None = None,
 ) -> list[Assignment]:
-    """The ranking of :func:`candidates`, its arguments checked and prepared."""
+    """The ranking of :func:`candidates`, its arguments checked and prepared; ``near`` the
+    rows of :func:`_rows_near` when already found."""
     best: dict[str, tuple] = {}  # label: (score, row, lo, hi); Assignments made for the top
-    for row, lo, hi in _rows_near(position_cm1, phase, min_score):
+    if near is None:
+        near = _rows_near(position_cm1, phase, min_score)
+    for row, lo, hi in near:
         if wanted is not None and (row.kind == "artefact" or wanted.isdisjoint(row.groups)):
             continue
         score = _position_score(position_cm1, lo, hi)
@@ -428,6 +436,39 @@ def _rows_near(x: float, phase: str, min_score: float) -> list[tuple[GroupFreque
     return [
         (rows[i], lo_i, hi_i) for i, lo_i, hi_i in zip(near, lo[near].tolist(), hi[near].tolist())
     ]
+
+
+def _rows_near_many(
+    xs: list[float], phase: str, min_score: float, wanted: set[str] | None
+) -> list[list[tuple[GroupFrequency, float, float]]]:
+    """:func:`_rows_near` of each position of ``xs`` in one comparison of arrays, leaving out
+    the rows that ``wanted`` (the groups allowed, when given) would skip: artefacts and rows
+    of no wanted group."""
+    import numpy as np
+
+    if not xs:
+        return []
+    if min_score <= 0.0:
+        return [_rows_near(x, phase, min_score) for x in xs]
+    rows, lo, hi = _position_index(phase)
+    spread = math.sqrt(2.0 * math.log(0.65 / min_score)) if min_score < 0.65 else 0.0
+    reach = np.array([1.0 + (position_tolerance(x) * spread if spread else 0.0) for x in xs])
+    x = np.array(xs, dtype=np.float64)[:, None]
+    near = (lo[None, :] - reach[:, None] <= x) & (x <= hi[None, :] + reach[:, None])
+    if wanted is not None:
+        near &= _rows_of_groups(phase, frozenset(wanted))[None, :]
+    lo_l, hi_l = lo.tolist(), hi.tolist()
+    return [[(rows[i], lo_l[i], hi_l[i]) for i in np.flatnonzero(m).tolist()] for m in near]
+
+
+@lru_cache(maxsize=64)
+def _rows_of_groups(phase: str, wanted: frozenset[str]) -> Any:
+    """True for the rows of ``phase`` (table order) that belong to a group of ``wanted`` and
+    are not artefacts."""
+    import numpy as np
+
+    rows, _, _ = _position_index(phase)
+    return np.array([r.kind != "artefact" and not wanted.isdisjoint(r.groups) for r in rows])
 
 
 @lru_cache(maxsize=64)

@@ -452,7 +452,8 @@ def _strongest_co(peaks: Sequence[Peak], explained: dict[float, str], phase: str
 def _hidden(lo: float, hi: float, prep: Sequence[str]) -> bool:
     if not prep:
         return False
-    return any(a <= lo and b >= hi for a, b in _hiding_regions(tuple(prep)))
+    key = prep if isinstance(prep, tuple) else tuple(prep)
+    return any(a <= lo and b >= hi for a, b in _hiding_regions(key))
 
 
 @lru_cache(maxsize=64)
@@ -546,12 +547,13 @@ def analyse(
     not_co = _Bands(
         b for b in usable if co is None or abs(b.position - co) > near_co or b.level < _LEVEL["m"]
     )
+    prep_key = tuple(tokens)  # looked up for every rule: a tuple once, not a list each time
     calls = [
         _call_group(
             g,
             usable if g.co_class is not None or g.name == "carbonyl" else not_co,
             phase,
-            tokens,
+            prep_key,
             elements,
             covered,
             floor,
@@ -610,7 +612,7 @@ def _clean(
         return False
     if floor > EXPECTED_AT_LEAST[rule.min_strength]:
         return False
-    level = _LEVEL[rule.min_strength] - 1
+    level = rule._levels[0] - 1
     return not any(b.level >= level for b in usable.between(lo, hi))
 
 
