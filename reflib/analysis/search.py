@@ -438,6 +438,7 @@ def sparse_matvec(refs: np.ndarray, v: np.ndarray, out: np.ndarray) -> np.ndarra
 
 
 _BLAS_LOCK = threading.Lock()
+_BLAS_STATE = threading.local()  # .decided: inside a block of _blas_threads_for_runs
 
 
 @contextmanager
@@ -449,14 +450,20 @@ def _blas_threads_for_runs():
     thread makes a search's runs about a quarter faster; on a busy one, waiting for it costs
     several times the product (see docs/speed.md), so the second thread is used only while the
     load average leaves a core free. The lock keeps two searches in threads of one process
-    from restoring each other's setting wrongly.
+    from restoring each other's setting wrongly. Inside a block already decided (a search
+    decides once for all its groups: setting the limit costs about 15 microseconds) it does
+    nothing.
     """
-    if _core_free():
+    if getattr(_BLAS_STATE, "decided", False) or _core_free():
         yield
         return
     with _BLAS_LOCK:
         with _blas_controller().limit(limits=1, user_api="blas"):
-            yield
+            _BLAS_STATE.decided = True
+            try:
+                yield
+            finally:
+                _BLAS_STATE.decided = False
 
 
 def _core_free() -> bool:
@@ -535,6 +542,16 @@ def score_index(
     """
     q = np.atleast_2d(np.asarray(q, dtype=np.float64))
     scores = np.zeros((index.size, q.shape[0]), dtype=np.float32)
+    if q.shape[0] == 1:  # run by run (sparse_matvec): BLAS threads chosen once for all groups
+        with _blas_threads_for_runs():
+            _score_groups(q, index, enc, query_prep, query_range, profile, holes, scores)
+    else:
+        _score_groups(q, index, enc, query_prep, query_range, profile, holes, scores)
+    return scores
+
+
+def _score_groups(q, index, enc, query_prep, query_range, profile, holes, scores) -> None:
+    """The loop of :func:`score_index`: each group's scores into its rows of ``scores``."""
     factor = None
     for g in index.groups:
         w = comparison_weights(enc, query_prep, g.prep, query_range, (g.lo, g.hi), profile, holes)
@@ -550,7 +567,6 @@ def score_index(
         refs = index.matrix[g.start : g.stop]
         inv = _group_norms(index, g, w)
         score_block(qg, refs, w, out=scores[g.start : g.stop], inv_norms=inv)
-    return scores
 
 
 # --- band-by-band explanation ----------------------------------------------------------------

@@ -55,7 +55,7 @@ class Index:
     spectrum_ids: np.ndarray
     compound_ids: np.ndarray
     groups: list[Group]
-    matrix: np.ndarray  # (n, bins) float32, column-major, possibly a read-only memory map
+    matrix: np.ndarray  # (n, bins) float32, column-major, possibly over a read-only memory map
     #: weighted reference norms already computed, by (group start, weight digest); see
     #: :func:`reflib.analysis.search.score_index`
     norms: dict = field(default_factory=dict, repr=False)
@@ -188,7 +188,9 @@ def read(path: str | Path) -> Index | None:
         if n == 0:
             matrix = np.zeros((0, bins), dtype=np.float32)
         else:
-            matrix = np.memmap(path, dtype="<f4", mode="r", offset=offset, shape=(bins, n)).T
+            mapped = np.memmap(path, dtype="<f4", mode="r", offset=offset, shape=(bins, n))
+            # a plain array over the map: slicing a memmap subclass costs microseconds a slice
+            matrix = np.asarray(mapped).T
         groups = [Group(tuple(g[0]), g[1], g[2], int(g[3]), int(g[4])) for g in header["groups"]]
         return Index(
             key=header["key"],
