@@ -146,13 +146,22 @@ def encode(peaks: PeakList, enc: Encoding = DEFAULT_ENCODING) -> np.ndarray:
     sig = band_sigmas(peaks, enc)[keep]
     sharp_sigma = enc.broadening * FWHM_TO_SIGMA
     amp = amp * np.sqrt(sharp_sigma / sig)
-    # each band only touches bins within 4 sigma of it: one window of indices per band
-    # (as wide as the widest band needs), values outside 4 sigma zeroed, summed by bincount
-    half = int(np.ceil(4 * sig.max() / enc.bin_width)) + 1
+    # each band only touches bins within 4 sigma of it: one window of indices per band, as
+    # wide as that band needs (a broad O-H band's window does not widen the sharp bands'),
+    # laid end to end in band order; values outside 4 sigma dropped, summed by bincount
+    half = np.ceil(4 * sig / enc.bin_width).astype(np.int64) + 1
     centre = np.rint((pos - enc.lo) / enc.bin_width).astype(np.int64)
-    idx = centre[:, None] + np.arange(-half, half + 1)[None, :]
-    d = (enc.lo + enc.bin_width * idx - pos[:, None]) / sig[:, None]
-    val = amp[:, None] * np.exp(-0.5 * d * d)
+    if half.min() == half.max():  # every band as wide: one rectangle of windows
+        idx = centre[:, None] + np.arange(-half[0], half[0] + 1)[None, :]
+        d = (enc.lo + enc.bin_width * idx - pos[:, None]) / sig[:, None]
+        val = amp[:, None] * np.exp(-0.5 * d * d)
+    else:
+        length = 2 * half + 1
+        band = np.repeat(np.arange(pos.size), length)
+        first = np.cumsum(length) - length  # where each band's window starts
+        idx = centre[band] - half[band] + (np.arange(band.size) - first[band])
+        d = (enc.lo + enc.bin_width * idx - pos[band]) / sig[band]
+        val = amp[band] * np.exp(-0.5 * d * d)
     ok = (idx >= 0) & (idx < grid.size) & (np.abs(d) <= 4.0)
     out = np.bincount(idx[ok], weights=val[ok], minlength=grid.size)[: grid.size]
     return out.astype(np.float32)
