@@ -712,6 +712,7 @@ class _StartBand:
     broad: bool  # a hydrogen-bonded envelope (see BROAD_FWHM_CM1)
     flank: float = 0.0  # amount a nearby product band's tail may put there (see PRODUCT_TAIL)
     judged: bool = True  # its amount may set and join the consistent group
+    bound: float = float("inf")  # plain sample over the band core, any shape (see _bound)
 
 
 def _start_band_fit(
@@ -723,11 +724,13 @@ def _start_band_fit(
     usable: np.ndarray,
     noise: float,
     corr_pts: float,
-) -> tuple[float, float, float, float, float, float, float]:
+) -> tuple[float, float, float, float, float, float, float, float]:
     """One starting-material band against the sample, without the product: the sample in the
     window as the shifted starting material, the interfering reagents/solvents/preparation bands
     and a straight baseline. Returns (amount, its standard error, its error from the noise
-    alone, reference band height, misfit in allowed units, shift cm-1, ceiling). The standard
+    alone, reference band height, misfit in allowed units, shift cm-1, ceiling, bound). The
+    bound is the plain sample over the reference band's core at the most generous shift: it
+    holds whatever the band's shape (see :func:`_bound`). The standard
     error is the noise's, grown by the residual the fit leaves under the band where that is
     larger than the noise."""
     sl = win.sl
@@ -741,12 +744,20 @@ def _start_band_fit(
     oth += [c[sl][m] for c in _neighbour_columns(y, grid, win, noise)]
     shifts = np.arange(-START_MAX_SHIFT_CM1, START_MAX_SHIFT_CM1 + 0.1, 2.0) / GRID_STEP_CM1
     best = None
+    bound = 0.0
     for ds in shifts:
         sc = _shifted(S, float(ds))[sl][m]
         X = np.column_stack([sc, *oth, *base])
         coef, rnorm = nnls(X, yy)
         if best is None or rnorm < best[0]:
             best = (rnorm, coef, X, sc, float(ds))
+        # Beer-Lambert: every compound adds absorbance, so the sample at the band's core
+        # holds at most this much starting material whatever else absorbs there; the most
+        # generous of the allowed shifts
+        pk = float(sc.max()) if sc.size else 0.0
+        if pk > 0:
+            core = sc > 0.5 * pk
+            bound = max(bound, float(np.min((yy[core] + BOUND_NOISE_UNITS * noise) / sc[core])))
     rnorm, coef, X, sc, ds = best
     # the error from the sample's noise; grown below by the residual under the band
     s2 = noise**2
@@ -783,7 +794,8 @@ def _start_band_fit(
         if top.any()
         else float("inf")
     )
-    return a, sigma_fit, sigma, peak, misfit, ds * GRID_STEP_CM1, max(ceiling, plain, 0.0)
+    ceiling = max(ceiling, plain, 0.0)
+    return a, sigma_fit, sigma, peak, misfit, ds * GRID_STEP_CM1, ceiling, max(bound, ceiling)
 
 
 def _profile_fwhm(S: np.ndarray, grid: np.ndarray, pos: float) -> float:
@@ -898,7 +910,7 @@ def start_only_bands(
         _start_band_fit(y, grid, S, list(others), win, usable, noise, corr_pts)
         for _p, _r, _f, win in wins
     ]
-    for (pos, rel, fwhm, _win), (a, sg, sg_noise, peak, misfit, ds, ceil) in zip(wins, fits):
+    for (pos, rel, fwhm, _win), (a, sg, sg_noise, peak, misfit, ds, ceil, bnd) in zip(wins, fits):
         broad = max(fwhm, _profile_fwhm(S, grid, pos)) > BROAD_FWHM_CM1
         # a band the sample does not show has no shape to judge: it is absent, and its ceiling
         # (the sample leaves no room for it) is the strongest evidence there is
@@ -910,7 +922,7 @@ def start_only_bands(
         shape_ok = misfit <= SHAPE_LIMIT or not shown
         judged = broad_ok or not broad
         out.append(
-            _StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad, flank, judged)
+            _StartBand(pos, rel, a, sg, peak, shape_ok, misfit, ds, ceil, broad, flank, judged, bnd)
         )
     return out
 
@@ -1001,8 +1013,9 @@ def consistent_low_group(bands: list[_StartBand]) -> np.ndarray:
     Leftover starting material adds its own amount to *every* one of its bands; the product (or
     anything else) can only add more at some of them. So the amount is set by the bands showing
     the least: the group whose amounts agree, within noise and the day-to-day change of band
-    heights, with the lowest upper limit any band allows. A band claiming far more (a product band
-    on top of it) is left out of the estimate; it only says that band is not clear.
+    heights, with the lowest upper limit any band allows (a band of another shape too, by the
+    plain sample at its core: see :func:`_bound`). A band claiming far more (a product band on
+    top of it) is left out of the estimate; it only says that band is not clear.
     """
     a = np.array([b.amount for b in bands])
     s = np.array([b.sigma for b in bands])
@@ -1013,7 +1026,22 @@ def consistent_low_group(bands: list[_StartBand]) -> np.ndarray:
     # its own day-to-day spreads
     limits = np.minimum(np.maximum(a, 0.0) + 2.0 * s, [_ceiling(b) for b in bands])
     upper = float(np.min((limits * np.exp(2.0 * _spreads(bands)))[judged]))
+    # and no band, of whatever shape, may hold less than the amount (see _bound)
+    bounds = np.array([_bound(b) for b in bands]) * np.exp(2.0 * _spreads(bands))
+    upper = min(upper, float(np.min(bounds)))
     return judged & ((a - 2.0 * s) <= upper)
+
+
+def _bound(b: _StartBand) -> float:
+    """A band's limit on the amount, whatever its shape: where the starting material's shape
+    fits, its ceiling; elsewhere the plain sample over the reference band's core at the most
+    generous shift. Beer-Lambert: absorbances add, and no other compound can take absorbance
+    away, so a band of another shape on top of the starting material's still holds at most
+    what the sample shows there. Envelopes measured in another phase bound nothing
+    (:func:`_broad_comparable`)."""
+    if not b.judged:
+        return float("inf")
+    return b.ceiling if b.shape_ok else b.bound
 
 
 def _judgeable(b: _StartBand) -> bool:

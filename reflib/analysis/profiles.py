@@ -37,6 +37,9 @@ BASELINE_WINDOW_CM1 = 1500.0
 #: of the area of the gas-phase test spectra, 1e-4 takes 1-2 %); the curve then runs along the
 #: bottom of the noise, and :func:`_noise_offset` lifts the band-free level back to zero.
 BASELINE_P = 1e-4
+#: Opaque stretches (1 % transmittance or less) are bridged for the baseline from this far
+#: (cm-1) beyond their edges: a cell's or window's cut-off rises over some 10-20 cm-1.
+OPAQUE_MARGIN_CM1 = 16.0
 #: Width (cm-1) given to a band of a peak list without one.
 DEFAULT_BAND_FWHM = 12.0
 #: A band of a typed peak list carries no noise figure; this is the noise assumed for a profile
@@ -115,7 +118,7 @@ def profile(data: Data, grid: np.ndarray, prep: Iterable[str] | str | None = ())
     baseline of :func:`reflib.signal.peaks.baseline`, smoothed to :data:`SMOOTH_CM1`, interpolated.
     A peak list: its bands drawn as Gaussians of their FWHM, heights the relative intensities.
     """
-    from reflib.signal.peaks import baseline, estimate_noise, uniform_grid
+    from reflib.signal.peaks import baseline, estimate_noise, saturated_runs, uniform_grid
 
     check_data("data", data)
     tokens = tokens_of(data, prep)
@@ -133,15 +136,45 @@ def profile(data: Data, grid: np.ndarray, prep: Iterable[str] | str | None = ())
         y = prep_mod.atr_correction(x, y)
     noise = estimate_noise(y)
     step = float(x[1] - x[0])
+    opaque = saturated_runs(y, from_transmittance=True)
     sigma_pts = SMOOTH_CM1 / 2.3548 / step
     if sigma_pts > 0.3:
         y = ndimage.gaussian_filter1d(y, sigma_pts, mode="nearest")
         noise *= _smooth_gain(sigma_pts)
-    y = y - baseline(y, x, method=BASELINE_METHOD, window_cm1=BASELINE_WINDOW_CM1, p=BASELINE_P)
+    under = _bridge_opaque(y, opaque, int(round(OPAQUE_MARGIN_CM1 / step)))
+    y = y - baseline(under, x, method=BASELINE_METHOD, window_cm1=BASELINE_WINDOW_CM1, p=BASELINE_P)
     y = y - _noise_offset(y, noise)
     covered = (grid >= x[0]) & (grid <= x[-1])
     out = np.interp(grid, x, y, left=0.0, right=0.0)
     return Profile(out, covered, float(noise), tokens, "spectrum")
+
+
+def _bridge_opaque(y: np.ndarray, runs: np.ndarray, margin: int) -> np.ndarray:
+    """``y`` with each opaque stretch (``runs``, index pairs from
+    :func:`reflib.signal.peaks.saturated_runs`) and ``margin`` points either side replaced by a
+    straight line between the trace's levels just outside (flat where a stretch reaches an end).
+
+    Where the sample passes no light (a solvent cell's opaque range, a window's cut-off, a
+    saturated band) the trace says nothing about the baseline; left in, a plateau of several
+    absorbance units drags the stiff baseline up far beyond its edges (by about 0.15 over
+    300 cm-1 beside a chloroform cell's opaque range below 800 cm-1), and every band there
+    comes out too low or negative. Only the baseline's input is bridged, never the trace.
+    """
+    if not len(runs):
+        return y
+    out = y.copy()
+    n = y.size
+    for i0, i1 in runs:
+        a, b = int(i0) - margin, int(i1) + margin
+        left = float(y[a]) if a >= 0 else None
+        right = float(y[b]) if b < n else None
+        a, b = max(a, 0), min(b, n - 1)
+        if left is None and right is None:
+            continue
+        lv = right if left is None else left
+        rv = left if right is None else right
+        out[a : b + 1] = np.linspace(lv, rv, b - a + 1)
+    return out
 
 
 def _noise_offset(y: np.ndarray, noise: float) -> float:
